@@ -1,0 +1,71 @@
+"""Command-line interface: ``soapfilm SUBCOMMAND ...``.
+
+Each subcommand is a module in this package exposing ``NAME``, ``HELP``,
+``add_args(parser)`` and ``run(args) -> int``.  :func:`main` turns every
+:class:`~soapfilm.errors.SoapfilmError` into one line on stderr and exit
+status 2 (a traceback only with ``--debug``).
+"""
+
+from __future__ import annotations
+
+import argparse
+import importlib
+import logging
+import sys
+
+from ..errors import SoapfilmError
+
+__all__ = ["main", "SUBCOMMANDS"]
+
+#: subcommand modules, in the order ``--help`` lists them
+SUBCOMMANDS = ["solve"]
+
+
+class _Parser(argparse.ArgumentParser):
+    def error(self, message):  # one line, exit 2 (argparse's own convention too)
+        self.exit(2, f"{self.prog}: error: {message} (see '{self.prog} --help')\n")
+
+
+def build_parser() -> argparse.ArgumentParser:
+    common = argparse.ArgumentParser(add_help=False)
+    common.add_argument("--debug", action="store_true", help="show tracebacks and debug log")
+    parser = _Parser(
+        prog="soapfilm",
+        description="Torsion constant, peak shear and shaft checks for non-circular bar sections.",
+        parents=[common],
+    )
+    from .. import __version__
+
+    parser.add_argument("--version", action="version", version=f"soapfilm {__version__}")
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
+    for name in SUBCOMMANDS:
+        mod = importlib.import_module(f".{name}", __name__)
+        p = sub.add_parser(mod.NAME, help=mod.HELP, description=mod.HELP, parents=[common])
+        mod.add_args(p)
+        p.set_defaults(_run=mod.run)
+    return parser
+
+
+def main(argv: list[str] | None = None) -> int:
+    """Run the command line; return the exit status."""
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    if not getattr(args, "command", None):
+        parser.print_help()
+        return 2
+    logging.basicConfig(level=logging.DEBUG if args.debug else logging.WARNING,
+                        format="%(levelname)s %(name)s: %(message)s")
+    try:
+        return int(args._run(args) or 0)
+    except SoapfilmError as exc:
+        if args.debug:
+            raise
+        print(f"soapfilm: error: {exc}", file=sys.stderr)
+        return 2
+    except KeyboardInterrupt:
+        print("soapfilm: interrupted", file=sys.stderr)
+        return 130
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())

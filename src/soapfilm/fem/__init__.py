@@ -1,0 +1,1 @@
+"""Finite element kernels: basis, assembly, the two torsion problems."""

@@ -1,0 +1,66 @@
+"""Solver for the symmetric positive definite systems of both problems.
+
+Small systems go to a sparse direct factorisation (SuperLU through scipy);
+large ones to conjugate gradients preconditioned with smoothed-aggregation
+algebraic multigrid (pyamg).  The switch-over size comes from the benchmark
+in ``tests/bench/bench_core.py``; DEVELOPERS.md records the figures.
+"""
+
+from __future__ import annotations
+
+import logging
+
+import numpy as np
+import scipy.sparse as sp
+import scipy.sparse.linalg as spla
+
+from ..errors import SolveError
+
+__all__ = ["solve_spd", "DIRECT_LIMIT"]
+
+log = logging.getLogger(__name__)
+
+#: Unknowns above which AMG-preconditioned CG is used instead of SuperLU.
+DIRECT_LIMIT = 60_000
+
+
+def solve_spd(a: sp.spmatrix, b: np.ndarray, method: str = "auto", rtol: float = 1e-12):
+    """Solve ``a x = b`` for a sparse SPD matrix.
+
+    Parameters
+    ----------
+    a : sparse matrix, SPD
+    b : ndarray (n,) or (n, k)
+    method : {"auto", "direct", "amg"}
+    rtol : float
+        Relative residual for the iterative path.  1e-12 keeps the algebraic
+        error far below any discretisation error of interest, so the J bounds
+        stay bounds up to rounding.
+    """
+    a = sp.csr_matrix(a)
+    n = a.shape[0]
+    if method == "auto":
+        method = "direct" if n <= DIRECT_LIMIT else "amg"
+    if method == "direct":
+        x = spla.spsolve(a.tocsc(), b, permc_spec="COLAMD")
+        return np.asarray(x)
+    if method != "amg":
+        raise ValueError(f"unknown method {method!r}")
+    import pyamg
+
+    ml = pyamg.smoothed_aggregation_solver(a, symmetry="hermitian", max_coarse=500)
+    cols = b.reshape(n, -1)
+    out = np.empty_like(cols, dtype=np.float64)
+    for j in range(cols.shape[1]):
+        res: list[float] = []
+        bn = np.linalg.norm(cols[:, j])
+        if bn == 0:
+            out[:, j] = 0
+            continue
+        out[:, j] = ml.solve(cols[:, j], tol=rtol, accel="cg", maxiter=400, residuals=res)
+        if res[-1] > 10 * rtol * bn:
+            raise SolveError(
+                f"the iterative solver stopped at relative residual {res[-1] / bn:.2e}"
+            )
+        log.debug("AMG-CG: %d iterations", len(res) - 1)
+    return out.reshape(b.shape)

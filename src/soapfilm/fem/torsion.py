@@ -1,0 +1,222 @@
+"""The two Saint-Venant torsion problems on linear triangles.
+
+Per unit ``G * theta`` (shear modulus times twist per length), lengths in the
+mesh unit, coordinates measured from the section centroid.
+
+Prandtl stress function ``phi`` (lower bound on J)::
+
+    -lap(phi) = 2 in the section, phi = 0 on the outer loop,
+    phi = C_k (one unknown) on hole k, loaded by 2 * A_k,
+    J_lo = 2 int(phi) + 2 sum_k C_k A_k,   tau_phi = (dphi/dy, -dphi/dx).
+
+Warping function ``omega`` (upper bound on J)::
+
+    int grad(omega) . grad(v) = int (y dv/dx - x dv/dy)   for all v,
+    J_hi = Ip - int |grad(omega)|^2,       tau_w = (domega/dx - y, domega/dy + x).
+
+Prager-Synge hypercircle: ``J_hi - J_lo = sum_e int_e |tau_w - tau_phi|^2``.
+
+References
+----------
+.. [1] S. P. Timoshenko and J. N. Goodier, Theory of Elasticity, 3rd ed.,
+   McGraw-Hill, 1970, ch. 10 (stress function, warping function, hollow
+   sections: the circulation condition on each hole).
+.. [2] W. Prager and J. L. Synge, "Approximations in elasticity based on the
+   concept of function space", Q. Appl. Math. 5 (1947) 241-269.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+import scipy.sparse as sp
+
+from ..mesh import Mesh
+from . import p1
+from .linsolve import solve_spd
+
+__all__ = ["TorsionFields", "solve_torsion", "recovered_gradient", "element_indicators"]
+
+
+@dataclass(frozen=True)
+class TorsionFields:
+    """Nodal fields and integrals of both problems on one mesh.
+
+    ``p`` are the node coordinates relative to ``origin`` (the centroid).
+    """
+
+    origin: np.ndarray  # (2,)
+    p: np.ndarray  # (2, N), centred
+    phi: np.ndarray  # (N,)
+    omega: np.ndarray  # (N,)
+    hole_values: np.ndarray  # (H,) phi on each hole
+    area: float
+    polar_moment: float
+    j_lo: float
+    j_hi: float
+    indicators: np.ndarray  # (M,) eta_e^2
+    elem_area: np.ndarray  # (M,)
+    elem_grad: np.ndarray  # (2, 3, M)
+
+
+def _section_integrals(p, t, area):
+    a = float(area.sum())
+    xc = p[0, t].mean(axis=0)
+    yc = p[1, t].mean(axis=0)
+    cx, cy = float(area @ xc) / a, float(area @ yc) / a
+    return a, np.array([cx, cy])
+
+
+def solve_torsion(mesh: Mesh, method: str = "auto") -> TorsionFields:
+    """Solve the stress-function and warping-function problems on ``mesh``."""
+    t = mesh.t
+    n = mesh.nnodes
+    area0, _ = p1.geometry(mesh.p, t)
+    total, origin = _section_integrals(mesh.p, t, area0)
+    p = mesh.p - origin[:, None]
+    area, grad = p1.geometry(p, t)
+    k = p1.stiffness(t, area, grad, n)
+
+    # ---- stress function: outer nodes fixed at 0, each hole one unknown
+    dof = np.arange(n)
+    fixed = np.zeros(n, dtype=bool)
+    fixed[mesh.loop_nodes(1)] = True
+    nh = mesh.nholes
+    hole_nodes = [mesh.loop_nodes(h + 2) for h in range(nh)]
+    for hn in hole_nodes:
+        fixed[hn] = True  # taken out of the free set; mapped to the hole unknown below
+    free = np.flatnonzero(~fixed)
+    nfree = len(free)
+    dof = np.full(n, -1)
+    dof[free] = np.arange(nfree)
+    for h, hn in enumerate(hole_nodes):
+        dof[hn] = nfree + h
+    keep = dof >= 0
+    prolong = sp.csr_matrix(
+        (np.ones(keep.sum()), (np.flatnonzero(keep), dof[keep])), shape=(n, nfree + nh)
+    )
+    b = p1.lumped_load(t, area, n, value=2.0)
+    k_red = (prolong.T @ k @ prolong).tocsr()
+    b_red = prolong.T @ b
+    b_red[nfree:] += 2.0 * mesh.hole_areas
+    x = solve_spd(k_red, b_red, method=method)
+    phi = prolong @ x
+    hole_values = x[nfree:].copy()
+    j_lo = float(b @ phi) + 2.0 * float(hole_values @ mesh.hole_areas)  # b carries the 2
+
+    # ---- warping function: node 0 pinned (fixes the free constant)
+    f = p1.coordinate_load(p, t, area, grad, n)
+    w = np.zeros(n)
+    w[1:] = solve_spd(k[1:, 1:], f[1:], method=method)
+    w -= (p1.lumped_load(t, area, n) @ w) / total  # mean zero
+    ixx, iyy, _ = p1.second_moments(p, t, area)
+    ip = float(ixx.sum() + iyy.sum())
+    j_hi = ip - float(w @ (k @ w))
+
+    eta2 = element_indicators(p, t, area, grad, phi, w)
+    return TorsionFields(
+        origin=origin,
+        p=p,
+        phi=phi,
+        omega=w,
+        hole_values=hole_values,
+        area=total,
+        polar_moment=ip,
+        j_lo=j_lo,
+        j_hi=j_hi,
+        indicators=eta2,
+        elem_area=area,
+        elem_grad=grad,
+    )
+
+
+def element_indicators(p, t, area, grad, phi, omega) -> np.ndarray:
+    """``eta_e^2 = int_e |tau_w - tau_phi|^2`` integrated exactly.
+
+    On a linear triangle ``tau_phi`` is constant and ``tau_w = v + (-y, x)``
+    with ``v = grad(omega)`` constant, so the integrand is a quadratic
+    polynomial integrated with the element's exact moments.
+    """
+    gphi = np.einsum("cie,ie->ce", grad, phi[t])
+    gw = np.einsum("cie,ie->ce", grad, omega[t])
+    v = np.stack([gw[0] - gphi[1], gw[1] + gphi[0]])  # constant part of the difference
+    xc, yc = p[0, t].mean(axis=0), p[1, t].mean(axis=0)
+    ixx, iyy, _ = p1.second_moments(p, t, area)
+    # int |v + (-y, x)|^2 = A|v|^2 + 2 A (v0 (-yc) + v1 xc) + int (x^2 + y^2)
+    return area * (v[0] ** 2 + v[1] ** 2) + 2.0 * area * (-v[0] * yc + v[1] * xc) + ixx + iyy
+
+
+def element_gradients(t, grad, u) -> np.ndarray:
+    """Constant gradient of a P1 field on each element, shape (2, M)."""
+    return np.einsum("cie,ie->ce", grad, u[t])
+
+
+def recovered_gradient(p, t, area, elem_values, nodes) -> np.ndarray:
+    """Patch-recovered nodal values of an element-wise constant field.
+
+    For each node in ``nodes`` a linear function is fitted by area-weighted
+    least squares to the element values at the element centroids of its
+    two-ring patch (elements touching the node or one of its neighbours) and
+    evaluated at the node: the superconvergent patch recovery of
+    Zienkiewicz and Zhu, with the patch widened so that boundary nodes get a
+    well-posed fit.
+
+    Parameters
+    ----------
+    elem_values : ndarray (c, M)
+        One or more element-constant components.
+    nodes : ndarray of int
+        Nodes to recover at.
+
+    Returns
+    -------
+    ndarray (c, len(nodes))
+
+    References
+    ----------
+    .. [1] O. C. Zienkiewicz and J. Z. Zhu, "The superconvergent patch recovery
+       and a posteriori error estimates. Part 1", Int. J. Numer. Meth. Engng 33
+       (1992) 1331-1364.
+    """
+    n = p.shape[1]
+    m = t.shape[1]
+    inc = sp.csr_matrix(
+        (np.ones(3 * m), (t.ravel(), np.tile(np.arange(m), 3))), shape=(n, m)
+    )
+    sub = inc[nodes]
+    patch = ((sub @ inc.T) @ inc).tocsr()
+    patch.data[:] = 1.0
+    xc, yc = p[0, t].mean(axis=0), p[1, t].mean(axis=0)
+    xn, yn = p[0, nodes], p[1, nodes]
+    w = area
+    s = {}
+    for name, vec in {
+        "1": w, "x": w * xc, "y": w * yc, "xx": w * xc * xc, "xy": w * xc * yc, "yy": w * yc * yc,
+    }.items():
+        s[name] = patch @ vec
+    s0 = s["1"]
+    sx = s["x"] - xn * s0
+    sy = s["y"] - yn * s0
+    sxx = s["xx"] - 2 * xn * s["x"] + xn * xn * s0
+    syy = s["yy"] - 2 * yn * s["y"] + yn * yn * s0
+    sxy = s["xy"] - xn * s["y"] - yn * s["x"] + xn * yn * s0
+    mat = np.stack(
+        [np.stack([s0, sx, sy], -1), np.stack([sx, sxx, sxy], -1), np.stack([sy, sxy, syy], -1)],
+        -2,
+    )  # (nb, 3, 3)
+    vals = np.atleast_2d(elem_values)
+    out = np.empty((vals.shape[0], len(nodes)))
+    scale = np.sqrt(np.maximum(sxx + syy, 1e-300) / s0)
+    for c in range(vals.shape[0]):
+        g = vals[c] * w
+        r0 = patch @ g
+        rx = patch @ (g * xc) - xn * r0
+        ry = patch @ (g * yc) - yn * r0
+        rhs = np.stack([r0, rx, ry], -1)
+        # scale the linear terms so the 3x3 systems are well conditioned
+        d = np.stack([np.ones_like(scale), scale, scale], -1)
+        ms = mat / d[:, :, None] / d[:, None, :]
+        coef = np.linalg.solve(ms, (rhs / d)[..., None])[..., 0]
+        out[c] = coef[:, 0]
+    return out

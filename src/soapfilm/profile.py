@@ -1,0 +1,238 @@
+"""The bar section as validated polygon loops.
+
+A :class:`Profile` is one outer loop plus any number of hole loops, each an
+``(n, 2)`` float64 array of vertices without the closing point.  The outer
+loop runs counter-clockwise, holes clockwise.  Construction through
+:meth:`Profile.from_loops` validates the loops with shapely and raises
+:class:`~soapfilm.errors.GeometryError` with a one-line message otherwise.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+from collections.abc import Sequence
+from dataclasses import dataclass, field
+
+import numpy as np
+import shapely
+from shapely.geometry import LinearRing, Polygon
+
+from .errors import GeometryError
+
+__all__ = ["Profile", "LENGTH_UNITS"]
+
+#: Length units a section may be given in, with their size in metres.
+LENGTH_UNITS = {"mm": 1e-3, "cm": 1e-2, "m": 1.0, "in": 0.0254, "ft": 0.3048}
+
+
+def _signed_area(xy: np.ndarray) -> float:
+    x, y = xy[:, 0], xy[:, 1]
+    return 0.5 * float(np.dot(x, np.roll(y, -1)) - np.dot(np.roll(x, -1), y))
+
+
+def _clean_loop(xy, label: str, tol: float) -> np.ndarray:
+    """Drop the closing point and repeated or nearly repeated vertices."""
+    xy = np.asarray(xy, dtype=np.float64)
+    if xy.ndim != 2 or xy.shape[1] != 2:
+        raise GeometryError(f"{label} must be a list of (x, y) points, got shape {xy.shape}")
+    if not np.all(np.isfinite(xy)):
+        raise GeometryError(f"{label} has a non-finite coordinate", fix="give finite numbers")
+    keep = [0] if len(xy) else []
+    for i in range(1, len(xy)):
+        if np.hypot(*(xy[i] - xy[keep[-1]])) > tol:
+            keep.append(i)
+    xy = xy[keep]
+    while len(xy) > 1 and np.hypot(*(xy[-1] - xy[0])) <= tol:
+        xy = xy[:-1]
+    if len(xy) < 3:
+        raise GeometryError(
+            f"{label} has {len(xy)} distinct point(s); a loop needs at least 3",
+            fix="add points or join it to the loop it belongs to",
+        )
+    return xy
+
+
+def _where_invalid(geom) -> str:
+    reason = shapely.is_valid_reason(geom)
+    return reason.replace("[", " at (").replace("]", ")") if "[" in reason else reason
+
+
+@dataclass(frozen=True)
+class Profile:
+    """A bar section: one outer loop and its holes, in one length unit.
+
+    Attributes
+    ----------
+    outer : ndarray, shape (n, 2)
+        Outer loop, counter-clockwise, not closed.
+    holes : tuple of ndarray
+        Hole loops, clockwise, not closed.
+    units : str
+        Length unit of all coordinates (a key of :data:`LENGTH_UNITS`).
+    name : str
+        Free text shown in reports.
+    """
+
+    outer: np.ndarray
+    holes: tuple[np.ndarray, ...] = ()
+    units: str = "mm"
+    name: str = ""
+    labels: tuple[str, ...] = field(default=(), compare=False, repr=False)
+
+    def __post_init__(self):
+        outer = np.ascontiguousarray(self.outer, dtype=np.float64)
+        holes = tuple(np.ascontiguousarray(h, dtype=np.float64) for h in self.holes)
+        outer.setflags(write=False)
+        for h in holes:
+            h.setflags(write=False)
+        object.__setattr__(self, "outer", outer)
+        object.__setattr__(self, "holes", holes)
+        if self.units not in LENGTH_UNITS:
+            raise GeometryError(
+                f"unknown length unit {self.units!r}",
+                fix=f"use one of {', '.join(LENGTH_UNITS)}",
+            )
+
+    # ------------------------------------------------------------------ build
+    @classmethod
+    def from_loops(
+        cls,
+        loops: Sequence,
+        units: str = "mm",
+        name: str = "",
+        labels: Sequence[str] | None = None,
+    ) -> Profile:
+        """Validate loops (first = outside, rest = holes) and build a Profile.
+
+        Parameters
+        ----------
+        loops : sequence of array_like, each (n, 2)
+            Vertex lists in any orientation; a closing point is optional.
+        units : str
+            Length unit.
+        name : str
+            Free text naming the section.
+        labels : sequence of str, optional
+            One label per loop used in error messages (e.g. ``"f.txt loop 2
+            (lines 7-12)"``); defaults to ``"outer loop"``, ``"hole 1"`` ...
+
+        Raises
+        ------
+        GeometryError
+            If a loop is too short, crosses itself, has zero area, or a hole
+            is not strictly inside the outer loop or touches another hole.
+        """
+        loops = list(loops)
+        if not loops:
+            raise GeometryError("no loops given", fix="give at least the outer boundary")
+        if labels is None:
+            labels = ["outer loop"] + [f"hole {k}" for k in range(1, len(loops))]
+        labels = list(labels)
+        allpts = np.concatenate([np.asarray(lp, dtype=float).reshape(-1, 2) for lp in loops])
+        if len(allpts) == 0 or not np.all(np.isfinite(allpts)):
+            raise GeometryError("no usable points", where=labels[0])
+        span = float(np.max(np.ptp(allpts, axis=0))) if len(allpts) else 0.0
+        tol = 1e-9 * max(span, 1e-300)
+        clean = [_clean_loop(lp, labels[i], tol) for i, lp in enumerate(loops)]
+        rings = []
+        for xy, label in zip(clean, labels, strict=True):
+            ring = LinearRing(xy)
+            if not ring.is_simple:
+                poly = Polygon(xy)
+                raise GeometryError(
+                    f"{label} crosses itself ({_where_invalid(poly)})",
+                    fix="order the points along the boundary without crossings",
+                )
+            if abs(_signed_area(xy)) <= 1e-12 * span * span:
+                raise GeometryError(
+                    f"{label} encloses zero area", fix="check that the points are not all on a line"
+                )
+            rings.append(ring)
+        outer_poly = Polygon(clean[0])
+        for k in range(1, len(clean)):
+            hole_poly = Polygon(clean[k])
+            if not outer_poly.contains(hole_poly):
+                raise GeometryError(
+                    f"{labels[k]} is not inside the outer loop",
+                    fix="holes must lie wholly inside the first loop, which is the outside",
+                )
+            if rings[k].distance(rings[0]) <= tol:
+                raise GeometryError(
+                    f"{labels[k]} touches the outer loop",
+                    fix="leave material between a hole and the outside, or make it a notch",
+                )
+            for j in range(1, k):
+                if Polygon(clean[j]).intersects(hole_poly):
+                    raise GeometryError(
+                        f"{labels[k]} overlaps or touches {labels[j]}",
+                        fix="merge the two holes into one loop or separate them",
+                    )
+        outer = clean[0] if _signed_area(clean[0]) > 0 else clean[0][::-1]
+        holes = tuple(h if _signed_area(h) < 0 else h[::-1] for h in clean[1:])
+        return cls(outer, holes, units=units, name=name, labels=tuple(labels))
+
+    @classmethod
+    def from_polygon(cls, polygon: Polygon, units: str = "mm", name: str = "") -> Profile:
+        """Build from a shapely Polygon (its exterior and interiors)."""
+        if polygon.geom_type == "MultiPolygon":
+            raise GeometryError(
+                f"the section falls apart into {len(polygon.geoms)} separate pieces",
+                fix="a bar section must be one connected region",
+            )
+        if polygon.is_empty:
+            raise GeometryError("the section is empty", fix="check the dimensions")
+        loops = [np.asarray(polygon.exterior.coords)]
+        loops += [np.asarray(r.coords) for r in polygon.interiors]
+        return cls.from_loops(loops, units=units, name=name)
+
+    # ------------------------------------------------------------- properties
+    @property
+    def loops(self) -> tuple[np.ndarray, ...]:
+        """All loops, outer first."""
+        return (self.outer, *self.holes)
+
+    @property
+    def polygon(self) -> Polygon:
+        """The section as a shapely Polygon."""
+        return Polygon(self.outer, [h for h in self.holes])
+
+    @property
+    def hole_areas(self) -> np.ndarray:
+        """Area enclosed by each hole loop (positive)."""
+        return np.array([-_signed_area(h) for h in self.holes], dtype=np.float64)
+
+    @property
+    def area(self) -> float:
+        """Net area of the section."""
+        return _signed_area(self.outer) - float(np.sum(self.hole_areas))
+
+    @property
+    def size(self) -> float:
+        """Largest extent of the bounding box."""
+        return float(np.max(np.ptp(self.outer, axis=0)))
+
+    # -------------------------------------------------------- transformations
+    def transformed(self, matrix, offset=(0.0, 0.0)) -> Profile:
+        """Return the profile mapped by ``x -> matrix @ x + offset``."""
+        m = np.asarray(matrix, dtype=float)
+        off = np.asarray(offset, dtype=float)
+        loops = [lp @ m.T + off for lp in self.loops]
+        return Profile.from_loops(loops, units=self.units, name=self.name)
+
+    def translated(self, dx: float, dy: float) -> Profile:
+        """Return the profile moved by (dx, dy)."""
+        return self.transformed(np.eye(2), (dx, dy))
+
+    def rotated(self, degrees: float) -> Profile:
+        """Return the profile turned counter-clockwise about the origin."""
+        c, s = math.cos(math.radians(degrees)), math.sin(math.radians(degrees))
+        return self.transformed([[c, -s], [s, c]])
+
+    def scaled(self, factor: float) -> Profile:
+        """Return the profile enlarged by ``factor`` about the origin."""
+        return self.transformed(np.eye(2) * factor)
+
+    def with_units(self, units: str) -> Profile:
+        """Return the same numbers tagged with another unit (no conversion)."""
+        return dataclasses.replace(self, units=units)

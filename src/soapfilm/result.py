@@ -1,0 +1,173 @@
+"""Result of a torsion analysis: a frozen object with a JSON-ready dict."""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from .fem.torsion import TorsionFields
+from .mesh import Mesh
+from .profile import Profile
+
+__all__ = ["TorsionResult", "CAUTION"]
+
+#: Short caution carried by every report and check output.
+CAUTION = (
+    "Linear-elastic Saint-Venant torsion of a prismatic bar: no fatigue, no stress raisers "
+    "outside this section (keyway ends, shoulders, holes across the bar). Verify against the "
+    "governing design code and licensed engineering practice before use."
+)
+
+
+@dataclass(frozen=True)
+class TorsionResult:
+    """Section properties in torsion, in the profile's length unit.
+
+    Stresses are per unit torque (1/length^3); multiply by the torque.
+
+    Attributes
+    ----------
+    profile, mesh : the analysed section and the final mesh
+    fields : TorsionFields
+        Nodal stress and warping functions (per unit G*theta).
+    area, centroid, polar_moment : float, (float, float), float
+        Net area, centroid, polar moment of area about the centroid (Ip).
+    torsion_constant_bounds : (float, float)
+        Guaranteed ``(J_lo, J_hi)`` for the meshed polygon, from the
+        stress-function and warping-function solutions.
+    max_shear_per_torque : float
+        Peak shear stress divided by the torque, tau_max / T.
+    peak_location : (float, float)
+        Where the peak sits, in input coordinates.
+    warnings : tuple of str
+    refinement : tuple of dict
+        One entry per adaptive step (elements, J_lo, J_hi, tau_max/T).
+    estimated_relative_error : dict
+        ``torsion_constant`` (half-width of the bracket over J) and
+        ``max_shear`` (estimate from the last refinements or mesh sizes).
+    """
+
+    profile: Profile
+    mesh: Mesh
+    fields: TorsionFields
+    area: float
+    centroid: tuple[float, float]
+    polar_moment: float
+    torsion_constant_bounds: tuple[float, float]
+    max_shear_per_torque: float
+    peak_location: tuple[float, float]
+    warnings: tuple[str, ...] = ()
+    refinement: tuple[dict, ...] = ()
+    estimated_relative_error: dict = field(default_factory=dict)
+    order: int = 1
+
+    @property
+    def units(self) -> str:
+        return self.profile.units
+
+    @property
+    def torsion_constant(self) -> float:
+        """J, the centre of the guaranteed bracket."""
+        lo, hi = self.torsion_constant_bounds
+        return 0.5 * (lo + hi)
+
+    @property
+    def torsional_section_modulus(self) -> float:
+        """Wt = T / tau_max."""
+        return 1.0 / self.max_shear_per_torque
+
+    @property
+    def equivalent_diameter_stiffness(self) -> float:
+        """Diameter of the round bar with the same J: (32 J / pi)^(1/4)."""
+        return (32.0 * self.torsion_constant / math.pi) ** 0.25
+
+    @property
+    def equivalent_diameter_strength(self) -> float:
+        """Diameter of the round bar with the same Wt: (16 Wt / pi)^(1/3)."""
+        return (16.0 * self.torsional_section_modulus / math.pi) ** (1.0 / 3.0)
+
+    def to_dict(self, include_mesh: bool = True) -> dict:
+        """Plain-JSON dictionary; keys are stable (later versions only add)."""
+        lo, hi = self.torsion_constant_bounds
+        out = {
+            "units": self.units,
+            "name": self.profile.name,
+            "area": self.area,
+            "centroid": list(self.centroid),
+            "polar_moment": self.polar_moment,
+            "torsion_constant": self.torsion_constant,
+            "torsion_constant_bounds": [lo, hi],
+            "max_shear_per_torque": self.max_shear_per_torque,
+            "torsional_section_modulus": self.torsional_section_modulus,
+            "peak_location": list(self.peak_location),
+            "equivalent_diameter_stiffness": self.equivalent_diameter_stiffness,
+            "equivalent_diameter_strength": self.equivalent_diameter_strength,
+            "estimated_relative_error": dict(self.estimated_relative_error),
+            "refinement": [dict(r) for r in self.refinement],
+            "warnings": list(self.warnings),
+            "caution": CAUTION,
+        }
+        if include_mesh:
+            out["mesh"] = {
+                "nodes": self.mesh.p.T.tolist(),
+                "elements": self.mesh.t.T.tolist(),
+                "order": self.order,
+            }
+        else:
+            out["mesh"] = {
+                "nodes": self.mesh.nnodes,
+                "elements": self.mesh.nelements,
+                "order": self.order,
+            }
+        return out
+
+    def summary_rows(self) -> list[tuple[str, str, str]]:
+        """(quantity, value, unit) rows for a terminal or report table."""
+        u = self.units
+        lo, hi = self.torsion_constant_bounds
+        j = self.torsion_constant
+        rows = [
+            ("Area A", f"{self.area:.6g}", f"{u}^2"),
+            ("Centroid (x, y)", f"({self.centroid[0]:.5g}, {self.centroid[1]:.5g})", u),
+            ("Polar moment Ip (about centroid)", f"{self.polar_moment:.6g}", f"{u}^4"),
+            ("Torsion constant J", f"{j:.6g}", f"{u}^4"),
+            ("  guaranteed bounds", f"[{lo:.6g}, {hi:.6g}]", f"{u}^4"),
+            ("  relative half-width", f"{(hi - lo) / (hi + lo):.1e}", "-"),
+            ("J / Ip", f"{j / self.polar_moment:.4f}", "-"),
+            ("Peak shear per unit torque", f"{self.max_shear_per_torque:.6g}", f"1/{u}^3"),
+            ("  at (x, y)", f"({self.peak_location[0]:.5g}, {self.peak_location[1]:.5g})", u),
+            ("Torsional section modulus Wt", f"{self.torsional_section_modulus:.6g}", f"{u}^3"),
+            ("Equivalent round dia. (stiffness)", f"{self.equivalent_diameter_stiffness:.5g}", u),
+            ("Equivalent round dia. (strength)", f"{self.equivalent_diameter_strength:.5g}", u),
+            ("Mesh", f"{self.mesh.nelements} triangles, {self.mesh.nnodes} nodes", f"P{self.order}"),
+        ]
+        err = self.estimated_relative_error.get("max_shear")
+        if err is not None:
+            rows.insert(9, ("  estimated relative error", f"{err:.1e}", "-"))
+        return rows
+
+    def _repr_html_(self) -> str:  # notebooks
+        cells = "".join(
+            f"<tr><td>{q}</td><td style='text-align:right'>{v}</td><td>{u}</td></tr>"
+            for q, v, u in self.summary_rows()
+        )
+        warn = "".join(f"<li>{w}</li>" for w in self.warnings)
+        return (
+            f"<table>{cells}</table>"
+            + (f"<ul>{warn}</ul>" if warn else "")
+            + f"<p><small>{CAUTION}</small></p>"
+        )
+
+
+def nodal_shear_magnitude(result: TorsionResult) -> np.ndarray:
+    """|grad phi| / J averaged to the nodes (per unit torque), for plots."""
+    f = result.fields
+    t = result.mesh.t
+    g = np.einsum("cie,ie->ce", f.elem_grad, f.phi[t])
+    mag = np.hypot(g[0], g[1]) * f.elem_area
+    n = result.mesh.nnodes
+    num = np.bincount(t.ravel(), weights=np.tile(mag, 3), minlength=n)
+    den = np.bincount(t.ravel(), weights=np.tile(f.elem_area, 3), minlength=n)
+    return num / den / result.torsion_constant
