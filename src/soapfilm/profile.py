@@ -130,8 +130,10 @@ class Profile:
             labels = ["outer loop"] + [f"hole {k}" for k in range(1, len(loops))]
         labels = list(labels)
         allpts = np.concatenate([np.asarray(lp, dtype=float).reshape(-1, 2) for lp in loops])
-        if len(allpts) == 0 or not np.all(np.isfinite(allpts)):
-            raise GeometryError("no usable points", where=labels[0])
+        if len(allpts) == 0:
+            raise GeometryError("no points", where=labels[0])
+        if not np.all(np.isfinite(allpts)):
+            raise GeometryError("non-finite coordinate", where=labels[0], fix="give finite numbers")
         span = float(np.max(np.ptp(allpts, axis=0))) if len(allpts) else 0.0
         tol = 1e-9 * max(span, 1e-300)
         clean = [_clean_loop(lp, labels[i], tol) for i, lp in enumerate(loops)]

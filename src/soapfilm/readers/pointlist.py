@@ -7,6 +7,7 @@ There is no unit inside the file: it comes from ``--units`` (default mm).
 
 from __future__ import annotations
 
+import math
 import re
 from pathlib import Path
 
@@ -44,6 +45,12 @@ def parse_pointlist(text: str, where: str) -> tuple[list[list[tuple[float, float
                 where=f"{where}:{lineno}",
                 fix="one point per line; '#' starts a comment; a blank line ends a loop",
             ) from None
+        if not (math.isfinite(x) and math.isfinite(y)):
+            raise InputError(
+                f"non-finite coordinate in {raw.strip()!r}",
+                where=f"{where}:{lineno}",
+                fix="give ordinary decimal numbers",
+            )
         if not current:
             first = lineno
         last = lineno
