@@ -46,7 +46,14 @@ class TorsionResult:
         One entry per adaptive step (elements, J_lo, J_hi, tau_max/T).
     estimated_relative_error : dict
         ``torsion_constant`` (half-width of the bracket over J) and
-        ``max_shear`` (estimate from the last refinements or mesh sizes).
+        ``max_shear`` (estimate from the last refinements, or on a single mesh
+        the disagreement of the two fields).
+    order : int
+        Element order (1 linear, 2 quadratic).
+    corners : tuple of soapfilm.corners.Corner
+        Sharp re-entrant corners (the stress is unbounded there).
+    converged : bool or None
+        Whether the adaptive loop met its tolerances (None: no loop was run).
     """
 
     profile: Profile
@@ -62,6 +69,8 @@ class TorsionResult:
     refinement: tuple[dict, ...] = ()
     estimated_relative_error: dict = field(default_factory=dict)
     order: int = 1
+    corners: tuple = ()
+    converged: bool | None = None
 
     @property
     def units(self) -> str:
@@ -106,6 +115,11 @@ class TorsionResult:
             "equivalent_diameter_strength": self.equivalent_diameter_strength,
             "estimated_relative_error": dict(self.estimated_relative_error),
             "refinement": [dict(r) for r in self.refinement],
+            "singular_corners": [
+                {"x": c.x, "y": c.y, "interior_angle_deg": c.angle} for c in self.corners
+            ],
+            "converged": self.converged,
+            "element_order": self.order,
             "warnings": list(self.warnings),
             "caution": CAUTION,
         }

@@ -1,58 +1,147 @@
-"""From a profile to a :class:`~soapfilm.result.TorsionResult`."""
+"""From a profile to a :class:`~soapfilm.result.TorsionResult`.
+
+:func:`analyse` solves on one mesh (given size or the default), or, with
+``tol``, refines adaptively until the J bracket and the peak shear meet the
+tolerance (see :mod:`soapfilm.adapt`).
+"""
 
 from __future__ import annotations
 
 import logging
+from dataclasses import dataclass
 
 import numpy as np
 
+from .corners import CORNER_ZONE_FRACTION, DEFAULT_CORNER_TOL_DEG, Corner, reentrant_corners
 from .fem.torsion import TorsionFields, element_gradients, recovered_gradient, solve_torsion
 from .mesh import Mesh, mesh_profile
 from .profile import Profile
 from .result import TorsionResult
 
-__all__ = ["analyse", "result_from_mesh", "boundary_peak"]
+__all__ = ["analyse", "result_from_mesh", "boundary_peak", "Peak", "solve_fields"]
 
 log = logging.getLogger(__name__)
 
 
-def boundary_peak(mesh: Mesh, fields: TorsionFields) -> tuple[float, int, np.ndarray]:
-    """Peak shear magnitude (per unit G*theta) on the boundary.
+@dataclass(frozen=True)
+class Peak:
+    """Peak boundary shear of one solution, per unit G*theta.
 
-    The shear from the stress function is recovered at the boundary nodes
-    (patch recovery, see :func:`~soapfilm.fem.torsion.recovered_gradient`);
-    ``|grad phi|^2`` is subharmonic, so its maximum lies on the boundary.
-
-    Returns
-    -------
-    peak : float
-        max |tau| over boundary nodes.
-    node : int
-        Node where it sits.
-    tau_b : ndarray
-        Recovered |tau| at every boundary node (order of ``mesh.boundary_nodes``).
+    ``value`` is from the stress function, ``value_warping`` the same place's
+    cross-check from the warping function; ``near_corner`` is the largest
+    value inside the zones round sharp re-entrant corners (not a property of
+    the section: the stress there is unbounded).
     """
-    t = mesh.t
+
+    value: float
+    node: int
+    location: tuple[float, float]
+    value_warping: float
+    near_corner: float
+
+
+def solve_fields(mesh: Mesh, order: int = 1, method: str = "auto") -> TorsionFields:
+    """Both torsion problems on ``mesh`` with elements of the given order."""
+    if order == 1:
+        return solve_torsion(mesh, method=method)
+    if order == 2:
+        from .fem.p2 import solve_torsion_p2
+
+        return solve_torsion_p2(mesh, method=method)
+    raise ValueError(f"element order must be 1 or 2, got {order}")
+
+
+def boundary_shear(mesh: Mesh, fields: TorsionFields) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Shear magnitude at the boundary nodes from both fields.
+
+    Returns ``(nodes, tau_phi, tau_w)``.  For linear elements the element
+    gradients are patch-recovered at the nodes (see
+    :func:`~soapfilm.fem.torsion.recovered_gradient`); ``|grad phi|^2`` is
+    subharmonic, so the peak lies on the boundary.
+    """
+    if getattr(fields, "order", 1) == 2:
+        from .fem.p2 import boundary_shear_p2
+
+        return boundary_shear_p2(mesh, fields)
+    t = mesh.t[:3]
     nodes = mesh.boundary_nodes
     gphi = element_gradients(t, fields.elem_grad, fields.phi)
-    rec = recovered_gradient(fields.p, t, fields.elem_area, gphi, nodes)
-    tau_b = np.hypot(rec[0], rec[1])
-    i = int(np.argmax(tau_b))
-    return float(tau_b[i]), int(nodes[i]), tau_b
+    gw = element_gradients(t, fields.elem_grad, fields.omega)
+    rec = recovered_gradient(fields.p, t, fields.elem_area, np.vstack([gphi, gw]), nodes)
+    tau_phi = np.hypot(rec[0], rec[1])
+    xn, yn = fields.p[0, nodes], fields.p[1, nodes]
+    tau_w = np.hypot(rec[2] - yn, rec[3] + xn)
+    return nodes, tau_phi, tau_w
+
+
+def corner_zone_radius(profile: Profile) -> float:
+    """Radius of the zone round each sharp corner left out of the reported peak."""
+    return CORNER_ZONE_FRACTION * profile.size
+
+
+def boundary_peak(
+    mesh: Mesh, fields: TorsionFields, corners: tuple[Corner, ...] = (), zone: float = 0.0
+) -> Peak:
+    """Peak boundary shear, leaving out nodes within ``zone`` of a sharp corner."""
+    nodes, tau_phi, tau_w = boundary_shear(mesh, fields)
+    xy = mesh.p[:, nodes]
+    away = np.ones(len(nodes), dtype=bool)
+    for c in corners:
+        away &= np.hypot(xy[0] - c.x, xy[1] - c.y) > zone
+    near = float(tau_phi[~away].max()) if np.any(~away) else 0.0
+    if not np.any(away):  # degenerate: every boundary node is near a corner
+        away[:] = True
+    i = int(np.flatnonzero(away)[np.argmax(tau_phi[away])])
+    node = int(nodes[i])
+    return Peak(
+        value=float(tau_phi[i]),
+        node=node,
+        location=(float(mesh.p[0, node]), float(mesh.p[1, node])),
+        value_warping=float(tau_w[i]),
+        near_corner=near,
+    )
+
+
+def corner_warnings(corners: tuple[Corner, ...], units: str, zone: float) -> list[str]:
+    if not corners:
+        return []
+    where = "; ".join(c.describe(units) for c in corners[:6])
+    more = f" and {len(corners) - 6} more" if len(corners) > 6 else ""
+    return [
+        f"{len(corners)} sharp re-entrant corner(s) at {where}{more}: the shear stress there is "
+        f"unbounded (grows without limit as the mesh is refined). The peak shear reported is the "
+        f"largest at least {zone:.3g} {units} away from these corners; model the real fillet "
+        f"radius for a meaningful peak. J is not affected."
+    ]
 
 
 def result_from_mesh(
     profile: Profile,
     mesh: Mesh,
     method: str = "auto",
+    order: int = 1,
+    corner_tol_deg: float = DEFAULT_CORNER_TOL_DEG,
+    *,
+    fields: TorsionFields | None = None,
+    peak: Peak | None = None,
     warnings: tuple[str, ...] = (),
     refinement: tuple[dict, ...] = (),
+    max_shear_error: float | None = None,
 ) -> TorsionResult:
-    """Solve both problems on a given mesh and assemble the result."""
-    fields = solve_torsion(mesh, method=method)
-    peak, node, _ = boundary_peak(mesh, fields)
+    """Solve both problems on a given mesh (unless ``fields`` are given) and assemble the result."""
+    corners = reentrant_corners(profile, corner_tol_deg)
+    zone = corner_zone_radius(profile)
+    if fields is None:
+        fields = solve_fields(mesh, order=order, method=method)
+    if peak is None:
+        peak = boundary_peak(mesh, fields, corners, zone)
     j_lo, j_hi = fields.j_lo, fields.j_hi
     j = 0.5 * (j_lo + j_hi)
+    errors = {"torsion_constant": (j_hi - j_lo) / (j_hi + j_lo)}
+    if max_shear_error is None:
+        # one mesh only: the two fields' disagreement is the available estimate
+        max_shear_error = abs(peak.value - peak.value_warping) / peak.value
+    errors["max_shear"] = float(max_shear_error)
     return TorsionResult(
         profile=profile,
         mesh=mesh,
@@ -61,11 +150,13 @@ def result_from_mesh(
         centroid=(float(fields.origin[0]), float(fields.origin[1])),
         polar_moment=fields.polar_moment,
         torsion_constant_bounds=(j_lo, j_hi),
-        max_shear_per_torque=peak / j,
-        peak_location=(float(mesh.p[0, node]), float(mesh.p[1, node])),
-        warnings=tuple(warnings),
+        max_shear_per_torque=peak.value / j,
+        peak_location=peak.location,
+        warnings=tuple(corner_warnings(corners, profile.units, zone)) + tuple(warnings),
         refinement=tuple(refinement),
-        estimated_relative_error={"torsion_constant": (j_hi - j_lo) / (j_hi + j_lo)},
+        estimated_relative_error=errors,
+        order=getattr(fields, "order", 1),
+        corners=corners,
     )
 
 
@@ -73,6 +164,10 @@ def analyse(
     profile: Profile,
     mesh_size: float | None = None,
     method: str = "auto",
+    *,
+    tol: float | None = None,
+    order: int = 1,
+    **adapt_options,
 ) -> TorsionResult:
     """Mesh a profile and compute its torsion properties.
 
@@ -81,19 +176,32 @@ def analyse(
     profile : Profile
     mesh_size : float, optional
         Element edge length in the profile's unit (default: derived from the
-        section, see :func:`soapfilm.mesh.default_mesh_size`).
+        section, see :func:`soapfilm.mesh.default_mesh_size`).  Without
+        ``tol`` this is the one mesh solved on; with ``tol`` it is the start.
     method : {"auto", "direct", "amg"}
         Linear solver.
+    tol : float, optional
+        Requested relative accuracy: refine adaptively until the guaranteed
+        bracket ``(J_hi - J_lo) / J`` and the estimated peak-shear error are
+        below it (see :func:`soapfilm.adapt.refine_until`, which takes the
+        further keyword options).
+    order : {1, 2}
+        Linear or quadratic triangles.
 
     Examples
     --------
-    >>> import numpy as np
     >>> from soapfilm import Profile, analyse
     >>> sq = Profile.from_loops([[(0, 0), (1, 0), (1, 1), (0, 1)]])
     >>> r = analyse(sq)
-    >>> round(r.torsion_constant, 4)  # exact series value 0.140577 (Timoshenko & Goodier)
-    0.1406
+    >>> lo, hi = r.torsion_constant_bounds
+    >>> bool(lo <= 0.1405770 <= hi)  # exact series value (Timoshenko & Goodier, sec. 109)
+    True
     """
+    if tol is not None:
+        from .adapt import refine_until
+
+        return refine_until(profile, tol=tol, mesh_size=mesh_size, order=order, method=method,
+                            **adapt_options)
     mesh = mesh_profile(profile, mesh_size)
     log.info("mesh: %d nodes, %d triangles", mesh.nnodes, mesh.nelements)
-    return result_from_mesh(profile, mesh, method=method)
+    return result_from_mesh(profile, mesh, method=method, order=order)

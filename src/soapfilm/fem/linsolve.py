@@ -21,10 +21,10 @@ __all__ = ["solve_spd", "DIRECT_LIMIT"]
 log = logging.getLogger(__name__)
 
 #: Unknowns above which AMG-preconditioned CG is used instead of SuperLU.
-DIRECT_LIMIT = 60_000
+DIRECT_LIMIT = 30_000
 
 
-def solve_spd(a: sp.spmatrix, b: np.ndarray, method: str = "auto", rtol: float = 1e-12):
+def solve_spd(a: sp.spmatrix, b: np.ndarray, method: str = "auto", rtol: float = 1e-9):
     """Solve ``a x = b`` for a sparse SPD matrix.
 
     Parameters
@@ -33,9 +33,10 @@ def solve_spd(a: sp.spmatrix, b: np.ndarray, method: str = "auto", rtol: float =
     b : ndarray (n,) or (n, k)
     method : {"auto", "direct", "amg"}
     rtol : float
-        Relative residual for the iterative path.  1e-12 keeps the algebraic
-        error far below any discretisation error of interest, so the J bounds
-        stay bounds up to rounding.
+        Relative residual for the iterative path.  J enters through energy
+        functionals that are stationary at the solution, so its algebraic error
+        is of the order of rtol squared; the bounds are evaluated with formulas
+        that stay bounds for any approximate field (see ``fem.torsion``).
     """
     a = sp.csr_matrix(a)
     n = a.shape[0]
@@ -58,7 +59,7 @@ def solve_spd(a: sp.spmatrix, b: np.ndarray, method: str = "auto", rtol: float =
             out[:, j] = 0
             continue
         out[:, j] = ml.solve(cols[:, j], tol=rtol, accel="cg", maxiter=400, residuals=res)
-        if res[-1] > 10 * rtol * bn:
+        if res[-1] > 100 * rtol * bn:
             raise SolveError(
                 f"the iterative solver stopped at relative residual {res[-1] / bn:.2e}"
             )

@@ -103,7 +103,10 @@ def solve_torsion(mesh: Mesh, method: str = "auto") -> TorsionFields:
     x = solve_spd(k_red, b_red, method=method)
     phi = prolong @ x
     hole_values = x[nfree:].copy()
-    j_lo = float(b @ phi) + 2.0 * float(hole_values @ mesh.hole_areas)  # b carries the 2
+    # 2 l(phi) - a(phi, phi) is a lower bound on J for ANY admissible phi (the
+    # complementary-energy functional), so the bound survives an inexact solve;
+    # at the exact discrete solution it equals l(phi) = 2 int(phi) + 2 sum C_k A_k.
+    j_lo = 2.0 * float(b_red @ x) - float(x @ (k_red @ x))
 
     # ---- warping function: node 0 pinned (fixes the free constant)
     f = p1.coordinate_load(p, t, area, grad, n)
@@ -112,7 +115,10 @@ def solve_torsion(mesh: Mesh, method: str = "auto") -> TorsionFields:
     w -= (p1.lumped_load(t, area, n) @ w) / total  # mean zero
     ixx, iyy, _ = p1.second_moments(p, t, area)
     ip = float(ixx.sum() + iyy.sum())
-    j_hi = ip - float(w @ (k @ w))
+    # int |tau_w|^2 = Ip - 2 f.w + a(w, w) >= J for ANY w (potential energy), so
+    # this upper bound also survives an inexact solve; at the exact discrete
+    # solution it equals Ip - a(w, w).
+    j_hi = ip - 2.0 * float(f @ w) + float(w @ (k @ w))
 
     eta2 = element_indicators(p, t, area, grad, phi, w)
     return TorsionFields(
