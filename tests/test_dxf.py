@@ -370,10 +370,10 @@ def test_gap_names_handles_position_size_and_tolerance(tmp_path, capsys):
     doc, msp = new_drawing()
     lines = square_lines(msp, shift=0.02)
     err = run_fault(tmp_path, capsys, doc)
-    assert "gap of 0.02 between" in err
+    assert "gap of 0.02 mm between" in err
     assert f"#{lines[3].dxf.handle}" in err and f"#{lines[0].dxf.handle}" in err
     assert "(0.02, 0)" in err and "(0, 0)" in err
-    assert "joined within 0.0001" in err and "--join-tolerance" in err
+    assert "joined within 0.0001 mm" in err and "--join-tolerance 0.03" in err
     # the suggested fix works
     assert main(["solve", str(save(doc, tmp_path)), "--join-tolerance", "0.03",
                  "--mesh-size", "1", "--quiet"]) == 0
@@ -459,6 +459,23 @@ def test_open_polyline_without_closed_flag(tmp_path, capsys):
     assert f"LWPOLYLINE #{pl.dxf.handle}" in err
 
 
+def test_self_crossing_polyline(tmp_path, capsys):
+    doc, msp = new_drawing()
+    bow = msp.add_lwpolyline([(0, 0), (10, 10), (10, 0), (0, 10)], close=True)
+    err = run_fault(tmp_path, capsys, doc)
+    assert f"LWPOLYLINE #{bow.dxf.handle}" in err and "crosses itself" in err
+    assert "(5 5)" in err or "(5, 5)" in err
+
+
+def test_entity_leaving_the_plane(tmp_path, capsys):
+    doc, msp = new_drawing()
+    lines = square_lines(msp)
+    lines[0].dxf.end = (10, 0, 2)
+    lines[1].dxf.start = (10, 0, 2)
+    err = run_fault(tmp_path, capsys, doc)
+    assert f"LINE #{lines[0].dxf.handle} leaves the XY plane" in err
+
+
 def test_two_separate_outsides(tmp_path, capsys):
     doc, msp = new_drawing()
     a = msp.add_circle((0, 0), 5)
@@ -535,3 +552,33 @@ def test_bad_tolerances():
         read_dxf("unused.dxf", join_tolerance=-1.0)
     with pytest.raises(InputError, match="chord_tolerance must be a positive length"):
         read_dxf("unused.dxf", chord_tolerance=0.0)
+
+
+# ------------------------------------------------------------------ example
+def test_example_drawing_against_roark_keyway_fit(tmp_path):
+    """shapes/mixer-paddle-shaft.dxf (read with --layer OUTLINE) against the
+    one-keyway fit of Roark's Formulas for Stress and Strain, 7th ed., Table
+    10.1: K = 2 C r^4, C = C1 + C2 (b/r) + C3 (b/r)^2 + C4 (b/r)^3, r the
+    shaft radius, b the keyway depth, a half its width.  A handbook fit for
+    sharp floor corners: agreement to 2 % is all it offers.  The committed
+    drawing must also match what shapes/make_dxf_example.py writes now."""
+    import importlib.util
+    from pathlib import Path
+
+    shapes = Path(__file__).resolve().parents[1] / "shapes"
+    spec = importlib.util.spec_from_file_location("make_dxf_example",
+                                                  shapes / "make_dxf_example.py")
+    mod = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(mod)
+    fresh = read_dxf(mod.main(tmp_path / "fresh.dxf"), layers=["OUTLINE"])
+    committed = read_dxf(shapes / "mixer-paddle-shaft.dxf", layers=["OUTLINE"])
+    assert committed.area == pytest.approx(fresh.area, rel=1e-12)
+    assert committed.units == "mm"
+
+    r, b, a = mod.D / 2, mod.T1, mod.B / 2
+    x, q = b / r, a / b
+    c = (0.7854 + (-0.0848 + 0.1234 * q - 0.0847 * q**2) * x
+         + (-0.4318 - 2.2000 * q + 0.7633 * q**2) * x**2
+         + (-0.0780 + 2.0618 * q - 0.5234 * q**2) * x**3)
+    result = analyse(committed, mesh_size=1.0)
+    assert result.torsion_constant == pytest.approx(2 * c * r**4, rel=2e-2)

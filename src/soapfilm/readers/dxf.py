@@ -214,11 +214,24 @@ def _vec_xy(points: Iterable) -> np.ndarray:
     return np.array([(p[0], p[1]) for p in points], dtype=float).reshape(-1, 2)
 
 
+def _flat_xy(entity, points: Iterable, where: str) -> np.ndarray:
+    """XY of world points, refusing entities that leave the XY plane."""
+    xyz = np.array([(p[0], p[1], p[2]) for p in points], dtype=float).reshape(-1, 3)
+    if len(xyz) and np.ptp(xyz[:, 2]) > 1e-9 * max(float(np.ptp(xyz[:, :2])), 1e-300):
+        raise InputError(
+            f"{entity.dxftype()} #{entity.dxf.handle} leaves the XY plane "
+            f"(z from {_fmt(xyz[:, 2].min())} to {_fmt(xyz[:, 2].max())})",
+            where=where,
+            fix="draw the section flat in the XY plane (plan view) of the drawing",
+        )
+    return xyz[:, :2].copy()
+
+
 def _flatten(entity, chord: float, where: str) -> list[np.ndarray] | None:
     """Flatten one geometry entity into polylines (world XY); [] if it is empty."""
     kind = entity.dxftype()
     if kind == "LINE":
-        return [_vec_xy([entity.dxf.start, entity.dxf.end])]
+        return [_flat_xy(entity, [entity.dxf.start, entity.dxf.end], where)]
     if kind in ("ARC", "CIRCLE"):
         _plane_check(entity, where)
         c, r = entity.dxf.center, float(entity.dxf.radius)
@@ -252,16 +265,9 @@ def _flatten(entity, chord: float, where: str) -> list[np.ndarray] | None:
             xy = _bulged_polyline(pts[:, :2], pts[:, 2], bool(entity.is_closed), chord)
             return [_to_wcs(entity, xy, float(verts[0].dxf.location[2]))]
         if entity.is_3d_polyline:
-            loc = np.array([tuple(v.dxf.location) for v in entity.vertices], dtype=float)
-            if len(loc) < 2:
+            xy = _flat_xy(entity, [v.dxf.location for v in entity.vertices], where)
+            if len(xy) < 2:
                 return []
-            if np.ptp(loc[:, 2]) > 1e-9 * max(float(np.ptp(loc[:, :2])), 1e-300):
-                raise InputError(
-                    f"POLYLINE #{entity.dxf.handle} is a 3D polyline that leaves the XY plane",
-                    where=where,
-                    fix="draw the section as a 2D polyline in the XY plane",
-                )
-            xy = loc[:, :2]
             if entity.is_closed:
                 xy = np.vstack([xy, xy[:1]])
             return [xy]
@@ -276,7 +282,7 @@ def _flatten(entity, chord: float, where: str) -> list[np.ndarray] | None:
             xy[-1] = xy[0]
         return [xy]
     if kind == "SPLINE":
-        xy = _vec_xy(entity.flattening(chord, segments=8))
+        xy = _flat_xy(entity, entity.flattening(chord, segments=8), where)
         return [xy] if len(xy) >= 2 else []
     return None
 
@@ -307,8 +313,8 @@ def _load(path: Path):
     )
 
 
-def _choose_units(doc, units: str | None, where: str) -> tuple[str, float]:
-    """Return (soapfilm unit, factor from drawing numbers to that unit)."""
+def _choose_units(doc, units: str | None, where: str) -> tuple[str, float, str]:
+    """Return (soapfilm unit, factor from drawing numbers to it, name of drawing unit)."""
     code = int(doc.header.get("$INSUNITS", 0) or 0)
     if units is not None:
         if units not in LENGTH_UNITS:
@@ -319,17 +325,17 @@ def _choose_units(doc, units: str | None, where: str) -> tuple[str, float]:
             if hunit != units or hfac != 1.0:
                 log.warning("%s: the drawing's unit header says %s but %s was given; using %s",
                             where, hname, units, units)
-        return units, 1.0
+        return units, 1.0, units
     if code == 0:
-        return "mm", 1.0
+        return "mm", 1.0, "mm"
     if code not in DXF_UNITS:
         raise InputError(
             f"the drawing's unit header $INSUNITS = {code} is not a length this tool handles",
             where=where,
             fix=f"give the unit of the numbers with --units ({', '.join(LENGTH_UNITS)})",
         )
-    _, unit, factor = DXF_UNITS[code]
-    return unit, factor
+    name, unit, factor = DXF_UNITS[code]
+    return unit, factor, unit if factor == 1.0 else name
 
 
 def _select(doc, layers: Sequence[str] | None, where: str):
@@ -448,7 +454,7 @@ def _component(ends: _Ends, start_piece: int) -> set[int]:
 
 
 def _check_nodes(pieces: list[_Piece], ends: _Ends, size: float, jtol: float, width: float,
-                 where: str, layers_present: Sequence[str]) -> None:
+                 where: str, layers_present: Sequence[str], unit: str) -> None:
     """Raise unless every node joins exactly two piece ends."""
     nnodes = len(ends.pos)
     degree = np.array([ends.degree(n) for n in range(nnodes)], dtype=int)
@@ -517,8 +523,8 @@ def _check_nodes(pieces: list[_Piece], ends: _Ends, size: float, jtol: float, wi
         more = f" (and {count - 1} more gap(s), up to this size)" if count > 1 else ""
         same = "its own other end" if ka == kb else pieces[kb].name
         raise InputError(
-            f"gap of {_fmt(g)} between the end of {pieces[ka].name} at {_pt(fpos[i])} "
-            f"and {same} at {_pt(fpos[j])}{more}; ends are joined within {_fmt(jtol)}",
+            f"gap of {_fmt(g)} {unit} between the end of {pieces[ka].name} at {_pt(fpos[i])} "
+            f"and {same} at {_pt(fpos[j])}{more}; ends are joined within {_fmt(jtol)} {unit}",
             where=where,
             fix=f"close the gap in the drawing, or raise the join tolerance: "
                 f"--join-tolerance {_fmt(_above(g))}",
@@ -539,7 +545,8 @@ def _check_nodes(pieces: list[_Piece], ends: _Ends, size: float, jtol: float, wi
         )
     raise InputError(
         f"open loop: {_names([pieces[k] for k in comp])} run from {_pt(ends.pos[n0])} to "
-        f"{_pt(far)}, {_fmt(float(np.hypot(*(far - ends.pos[n0]))))} apart, without closing",
+        f"{_pt(far)}, {_fmt(float(np.hypot(*(far - ends.pos[n0]))))} {unit} apart, "
+        "without closing",
         where=where,
         fix="draw the missing piece so that the outline closes" + layer_fix,
     )
@@ -619,9 +626,9 @@ def read_dxf(
     for name, value in (("chord_tolerance", chord_tolerance), ("join_tolerance", join_tolerance)):
         if value is not None and not (math.isfinite(value) and value > 0):
             raise InputError(f"{name} must be a positive length, got {value}",
-                             where=f"--{name.replace('_', '-')}")
+                             where="--join-tolerance" if name == "join_tolerance" else name)
     doc = _load(path)
-    unit, factor = _choose_units(doc, units, where)
+    unit, factor, ulabel = _choose_units(doc, units, where)
     entities, skipped, present = _select(doc, layers, where)
     on = f" on layer(s) {', '.join(layers)}" if layers else ""
     if skipped:
@@ -671,7 +678,7 @@ def read_dxf(
     width = max(jtol, 2.0 * chord)
     _check_overlaps(pieces, width, where)
     ends = _Ends(pieces, jtol)
-    _check_nodes(pieces, ends, size, jtol, width, where, present)
+    _check_nodes(pieces, ends, size, jtol, width, where, present, ulabel)
     traced = _trace(pieces, ends)
     loops = [xy for xy, _ in traced]
     names = [_names([pieces[k] for k in members]) for _, members in traced]
