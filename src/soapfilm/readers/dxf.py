@@ -20,18 +20,21 @@ adaptive flattening with the same distance.  The default ``s`` is
 ``1e-5`` times the drawing size (largest side of the bounding box).
 
 How fine that is: moving the boundary inward by ``dn`` changes J by
-``-int |tau|^2 dn ds`` (per unit G*theta; the shape derivative of the
-torsional stiffness).  An inscribed chord cuts off a sliver of mean depth
-``2 s / 3``.  For a circle of diameter d, ``|tau| = d / 2`` on the boundary,
-which gives ``dJ / J = (8 / 3) s / (d / 2) = 5.3e-5`` at ``s = 1e-5 d``:
-below the 1e-4 target.  (Exactly: an inscribed regular N-gon loses the
-fraction ``1 - sin(2 pi / N) / (2 pi / N)`` of its area, and J twice that to
-first order, the same figure.)  The test suite checks it with the finite
-element bracket of a CIRCLE entity against ``pi d^4 / 32``.  Other compact
-sections have ``int |tau|^2 ds / J`` of the same order as the circle, and
-concentric curves (tube walls, fillets facing each other) shift together, so
-the wall thickness is kept; pass a smaller ``chord_tolerance`` for slender
-shapes with long curved faces.
+``-int |tau|^2 dn ds`` (per unit G*theta; Hadamard's boundary variation of
+the torsional rigidity, as used by Polya and Szego, Isoperimetric
+Inequalities in Mathematical Physics, 1951 -- cited from memory).  An
+inscribed chord cuts off a sliver of mean depth ``2 s / 3``.  For a circle
+of diameter d, ``|tau| = d / 2`` on the boundary, which gives
+``dJ / J = (8 / 3) s / (d / 2) = 5.3e-5`` at ``s = 1e-5 d``: below the 1e-4
+target.  (Cross-check: an inscribed regular N-gon loses the fraction
+``1 - sin(2 pi / N) / (2 pi / N)`` of its area, and J twice that to first
+order, the same figure.)  The test suite checks it with the finite element
+bracket of a CIRCLE entity against ``pi d^4 / 32``; the guaranteed upper
+bound of the flattened circle sits 5.3e-5 below it, as predicted.  Other
+compact sections have ``int |tau|^2 ds / J`` of the same order as the
+circle, and concentric curves (tube walls, fillets facing each other) shift
+together, so the wall thickness is kept; pass a smaller ``chord_tolerance``
+for slender shapes with long curved faces.
 
 Joining
 -------
@@ -88,7 +91,8 @@ _MAX_STEP = math.radians(10.0)
 _GAP_LIMIT = 0.05
 
 #: $INSUNITS code -> (name in messages, soapfilm unit, factor to that unit).
-#: Factors are exact by definition (1 in = 25.4 mm, NIST SP 811; SI prefixes).
+#: Factors are exact by definition: SI prefixes; 1 yd = 3 ft, 1 mi = 5280 ft,
+#: 1 US survey foot = 1200/3937 m (NIST Special Publication 811, 2008, appendix B).
 DXF_UNITS: dict[int, tuple[str, str, float]] = {
     1: ("inches", "in", 1.0),
     2: ("feet", "ft", 1.0),
