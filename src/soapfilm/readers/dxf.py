@@ -235,7 +235,10 @@ def _flatten(entity, chord: float, where: str) -> list[np.ndarray] | None:
     """Flatten one geometry entity into polylines (world XY); [] if it is empty."""
     kind = entity.dxftype()
     if kind == "LINE":
-        return [_flat_xy(entity, [entity.dxf.start, entity.dxf.end], where)]
+        a, b = entity.dxf.start, entity.dxf.end
+        if a[2] != b[2]:  # a sloping line; the check gives the message
+            return [_flat_xy(entity, [a, b], where)]
+        return [np.array([[a[0], a[1]], [b[0], b[1]]], dtype=float)]
     if kind in ("ARC", "CIRCLE"):
         _plane_check(entity, where)
         c, r = entity.dxf.center, float(entity.dxf.radius)
@@ -423,25 +426,34 @@ def _names(pieces: Sequence[_Piece], limit: int = 6) -> str:
 
 
 def _check_overlaps(pieces: list[_Piece], width: float, where: str) -> None:
-    """Raise if two pieces run along each other (doubled or overlapping entities)."""
+    """Raise if two pieces run along each other (doubled or overlapping entities).
+
+    Pieces that only meet at an end share a stretch of about
+    ``width / sin(angle)``; more than ``50 * width`` means they overlap.
+    """
     if len(pieces) < 2:
         return
-    lines = [LineString(p.xy) for p in pieces]
-    tree = shapely.STRtree(lines)
-    buffered = [ln.buffer(width) for ln in lines]
-    left, right = tree.query(buffered, predicate="intersects")
-    for i, j in zip(left, right, strict=True):
-        if i >= j:
-            continue
-        common = lines[j].intersection(buffered[i])
-        if common.length > 50.0 * width:
-            at = common.interpolate(0.5, normalized=True)
-            raise InputError(
-                f"{pieces[i].name} and {pieces[j].name} overlap: they run within "
-                f"{_fmt(width)} of each other for {_fmt(common.length)} near {_pt((at.x, at.y))}",
-                where=where,
-                fix="delete the doubled entity or trim the overlapping ones in the CAD program",
-            )
+    lines = np.array([LineString(p.xy) for p in pieces], dtype=object)
+    buffered = shapely.buffer(lines, width)
+    left, right = shapely.STRtree(lines).query(buffered, predicate="intersects")
+    keep = left < right
+    left, right = left[keep], right[keep]
+    common = shapely.intersection(lines[right], buffered[left])
+    length = shapely.length(common)
+    bad = np.flatnonzero(length > 50.0 * width)
+    if len(bad):
+        k = bad[np.argmax(length[bad])]
+        i, j, geom = left[k], right[k], common[k]
+        try:
+            at = shapely.line_interpolate_point(geom, 0.5, normalized=True)
+        except shapely.errors.GEOSException:
+            at = geom.representative_point()
+        raise InputError(
+            f"{pieces[i].name} and {pieces[j].name} overlap: they run within "
+            f"{_fmt(width)} of each other for {_fmt(float(length[k]))} near {_pt((at.x, at.y))}",
+            where=where,
+            fix="delete the doubled entity or trim the overlapping ones in the CAD program",
+        )
 
 
 def _component(ends: _Ends, start_piece: int) -> set[int]:
@@ -699,6 +711,16 @@ def _nest(loops: list[np.ndarray], names: list[str], where: str) -> list[int]:
     polys = [Polygon(xy) for xy in loops]
     rings = [poly.exterior for poly in polys]
     n = len(loops)
+    for i in range(n):
+        if not rings[i].is_simple:
+            reason = shapely.is_valid_reason(polys[i])
+            at = reason[reason.find("[") + 1: reason.find("]")].split() if "[" in reason else []
+            near = f" near {_pt([float(v) for v in at[:2]])}" if len(at) >= 2 else ""
+            raise InputError(
+                f"loop ({names[i]}) crosses itself{near}",
+                where=where,
+                fix="redraw it so that the outline does not cross over itself",
+            )
     for i in range(n):
         for j in range(i + 1, n):
             if rings[i].intersects(rings[j]):
