@@ -343,7 +343,7 @@ def test_layer_selection(tmp_path, capsys, caplog):
     err = capsys.readouterr().err
     assert f"LINE #{centre.dxf.handle} on layer CENTRE" in err and "--layer" in err
     with caplog.at_level(logging.WARNING, logger="soapfilm.readers.dxf"):
-        profile = read_dxf(path, layers=["outline"])
+        profile = read_dxf(path, layers="outline")  # one name as a plain string
     assert "1 TEXT" in caplog.text
     R, a, yf, ys = keyed_geometry(**KEYED)
     assert profile.size == pytest.approx(2 * R, rel=2e-5)  # chords cut the extremes

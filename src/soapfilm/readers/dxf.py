@@ -616,7 +616,7 @@ def read_dxf(
         Length unit of the drawing's numbers; overrides the ``$INSUNITS``
         header (with a logged warning when they disagree).  Default: the
         header, else mm.
-    layers : sequence of str, optional
+    layers : str or sequence of str, optional
         Read only entities on these layers (case-insensitive).  Default: all.
     chord_tolerance : float, optional
         Largest distance between a curve and its flattened polyline, in
@@ -636,9 +636,25 @@ def read_dxf(
     InputError
         Unreadable file, no geometry, gaps, overlaps, dangling entities,
         branches, open loops, crossing loops, two outsides, islands in holes.
+
+    Examples
+    --------
+    >>> import pathlib, tempfile, ezdxf
+    >>> doc = ezdxf.new()
+    >>> doc.units = ezdxf.units.MM
+    >>> _ = doc.modelspace().add_circle((0, 0), 10)
+    >>> path = pathlib.Path(tempfile.mkdtemp()) / "disc.dxf"
+    >>> doc.saveas(path)
+    >>> disc = read_dxf(path)
+    >>> disc.units, "outside loop (CIRCLE #" in disc.labels[0]
+    ('mm', True)
+    >>> round(disc.area, 1)  # pi * 10^2 = 314.16, less 2.7e-5 for the chords
+    314.2
     """
     path = Path(path)
     where = str(path)
+    if isinstance(layers, str):
+        layers = [layers]
     for name, value in (("chord_tolerance", chord_tolerance), ("join_tolerance", join_tolerance)):
         if value is not None and not (math.isfinite(value) and value > 0):
             raise InputError(f"{name} must be a positive length, got {value}",
