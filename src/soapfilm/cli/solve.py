@@ -16,13 +16,31 @@ HELP = "compute J, peak shear per unit torque and related properties of a sectio
 
 
 def add_args(p: argparse.ArgumentParser) -> None:
-    p.add_argument("input", metavar="INPUT", help="section file (point list .txt/.csv/.dat)")
+    p.add_argument("input", metavar="INPUT",
+                   help="section file (point list .txt/.csv/.dat, DXF drawing .dxf)")
     p.add_argument("--units", choices=sorted(LENGTH_UNITS),
-                   help="length unit of the input when the file does not say (default mm)")
+                   help="length unit of the input (default: the file's own, else mm; "
+                        "overrides a DXF drawing's unit header)")
     p.add_argument("--mesh-size", type=float, metavar="H",
                    help="element edge length in the input unit (default: from the section)")
     p.add_argument("--json", metavar="OUT", help="write results as JSON to OUT ('-' = stdout)")
     p.add_argument("--quiet", action="store_true", help="no terminal table")
+    add_drawing_args(p)
+
+
+# --- DXF drawing options (passed to readers that take them) -------------------
+def add_drawing_args(p: argparse.ArgumentParser) -> None:
+    g = p.add_argument_group("DXF drawings")
+    g.add_argument("--layer", dest="layers", action="append", metavar="NAME",
+                   help="read only entities on this layer (repeatable; default all layers)")
+    g.add_argument("--join-tolerance", type=float, metavar="D",
+                   help="join entity ends closer than D, in drawing units "
+                        "(default 1e-5 of the drawing size)")
+
+
+def drawing_options(args) -> dict:
+    return {"layers": args.layers, "join_tolerance": args.join_tolerance}
+# --- end DXF drawing options ---------------------------------------------------
 
 
 def print_summary(result: TorsionResult, con) -> None:
@@ -46,7 +64,7 @@ def run(args) -> int:
         raise InputError(f"must be a positive length, got {args.mesh_size}", where="--mesh-size")
     if args.json and args.json != "-":
         check_writable(args.json, "--json")
-    profile = read_section(args.input, args.units)
+    profile = read_section(args.input, args.units, **drawing_options(args))
     result = analyse(profile, mesh_size=args.mesh_size)
     con = console(args.quiet or args.json == "-")
     if con:

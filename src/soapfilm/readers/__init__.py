@@ -9,6 +9,7 @@ file's own header, else millimetres).
 
 from __future__ import annotations
 
+import inspect
 from collections.abc import Callable
 from pathlib import Path
 
@@ -34,13 +35,18 @@ def register(*suffixes: str):
     return deco
 
 
-def read_section(path, units: str | None = None) -> Profile:
+def read_section(path, units: str | None = None, **options) -> Profile:
     """Read a section from a file, choosing the reader by suffix.
+
+    Keyword ``options`` whose value is not None (e.g. ``layers`` for DXF)
+    are passed on to the reader; one the reader does not take is an error
+    naming the command-line option (``layers`` -> ``--layer``).
 
     Raises
     ------
     InputError
-        Missing file, unknown suffix, or whatever the reader finds wrong.
+        Missing file, unknown suffix, an option the reader does not take, or
+        whatever the reader finds wrong.
     """
     path = Path(path)
     if not path.exists():
@@ -54,8 +60,17 @@ def read_section(path, units: str | None = None) -> Profile:
             where=str(path),
             fix=f"use one of {', '.join(sorted(READERS))}",
         )
+    options = {k: v for k, v in options.items() if v is not None}
+    if options:  # reader-specific options, e.g. layers for DXF drawings
+        accepted = inspect.signature(reader).parameters
+        for key in options:
+            if key not in accepted:
+                flag = "--" + key.removesuffix("s").replace("_", "-")
+                raise InputError(f"{flag} does not apply to {path.suffix or 'these'} files",
+                                 where=str(path), fix=f"drop {flag}")
+        return reader(path, units, **options)
     return reader(path, units)
 
 
 # readers register on import
-from . import pointlist  # noqa: E402,F401
+from . import dxf, pointlist  # noqa: E402,F401
