@@ -68,7 +68,8 @@ class SectionSource:
     Parameters
     ----------
     mesh_size : float, optional
-        Element size for the finite-element sections, in the section's unit.
+        Element size for the finite-element sections, in metres (default:
+        the solver's own choice).
     """
 
     mesh_size: float | None = None
@@ -77,7 +78,10 @@ class SectionSource:
     def from_file(self, path, units: str | None, where: str,
                   nominal_diameter: float | None = None, mesh_size: float | None = None,
                   ) -> tuple[Section, object]:
-        """Analyse a section file (any registered reader); return (Section, TorsionResult)."""
+        """Analyse a section file (any registered reader); return (Section, TorsionResult).
+
+        ``nominal_diameter`` and ``mesh_size`` are in metres.
+        """
         from .readers import read_section
         from .solve import analyse
 
@@ -93,9 +97,10 @@ class SectionSource:
                                  fix="paths are relative to the shaft file")
             profile = read_section(path, units)
             log.info("analysing section %s", path)
-            self.cache[key] = analyse(profile, mesh_size=size)
+            h = None if size is None else size / LENGTH_UNITS[profile.units]
+            self.cache[key] = analyse(profile, mesh_size=h)
         result = self.cache[key]
-        return section_from_result(result, nominal_diameter, name=path.name), result
+        return section_from_result(result, nominal_diameter, name=path.stem), result
 
     def from_outline(self, outline, holes, units: str, where: str,
                      nominal_diameter: float | None, name: str, mesh_size: float | None = None
@@ -114,7 +119,9 @@ class SectionSource:
             profile = Profile.from_loops(
                 loops, units=units, name=name,
                 labels=[f"{where} outline"] + [f"{where} hole {k}" for k in range(1, len(loops))])
-            self.cache[key] = analyse(profile, mesh_size=mesh_size or self.mesh_size)
+            size = mesh_size if mesh_size is not None else self.mesh_size
+            h = None if size is None else size / LENGTH_UNITS[units]
+            self.cache[key] = analyse(profile, mesh_size=h)
         result = self.cache[key]
         return section_from_result(result, nominal_diameter, name=name), result
 
@@ -147,8 +154,6 @@ class SectionSource:
         if units is not None and units not in LENGTH_UNITS:
             raise InputError(f"unknown length unit {units!r}", where=f"{where} key 'units'",
                              fix=f"use one of {', '.join(LENGTH_UNITS)}")
-        if mesh_size is not None:
-            mesh_size /= LENGTH_UNITS[units or "mm"]
         if kinds[0] == "diameter":
             d = parse_quantity(spec["diameter"], "length", f"{where} key 'diameter'")
             bore = parse_quantity(spec["bore"], "length", f"{where} key 'bore'") \

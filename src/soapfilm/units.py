@@ -214,7 +214,19 @@ class UnitSystem:
             return "-"
         v = self.value(si, kind)
         label = self.unit(kind)
-        return f"{v:.{digits}g} {label}" if label else f"{v:.{digits}g}"
+        text = _number(v, digits)
+        return f"{text} {label}" if label else text
+
+
+def _number(v: float, digits: int) -> str:
+    """``digits`` significant figures, fixed notation from 1e-3 to 1e7, else exponent."""
+    if v == 0 or not math.isfinite(v):
+        return f"{v:g}"
+    mag = math.floor(math.log10(abs(v)))
+    if -3 <= mag < 7:
+        text = f"{v:.{max(0, digits - 1 - mag)}f}"
+        return text.rstrip("0").rstrip(".") if "." in text else text
+    return f"{v:.{digits - 1}e}"
 
 
 _DEG = math.pi / 180.0
