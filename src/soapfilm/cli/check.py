@@ -173,6 +173,7 @@ def check_json(res: SectionCheck, mat: Material) -> dict:
 
 def print_check(res: SectionCheck, mat: Material, sys: UnitSystem, twist_note: str,
                 con) -> None:
+    from rich.markup import escape
     from rich.table import Table
 
     sec = res.section
@@ -181,49 +182,53 @@ def print_check(res: SectionCheck, mat: Material, sys: UnitSystem, twist_note: s
     t.add_column("quantity")
     t.add_column("value", justify="right")
     t.add_column("basis / note")
-    t.add_row("Torsion constant J", f(sec.torsion_constant, "J", 6), sec.method)
-    t.add_row("Peak shear per unit torque", f(sec.max_shear_per_torque, "per_torque", 6),
+
+    def row(q, v, note=""):
+        t.add_row(escape(q), escape(v), escape(note))
+    row("Torsion constant J", f(sec.torsion_constant, "J", 6), sec.method)
+    row("Peak shear per unit torque", f(sec.max_shear_per_torque, "per_torque", 5),
               sec.method)
-    t.add_row("Torsional section modulus Wt", f(sec.torsional_section_modulus, "Wt", 6),
+    row("Torsional section modulus Wt", f(sec.torsional_section_modulus, "Wt", 6),
               "T / tau_max")
-    t.add_row("Equivalent round dia. d_J", f(sec.equivalent_diameter_stiffness, "length"),
+    row("Equivalent round dia. d_J", f(sec.equivalent_diameter_stiffness, "length"),
               "(32 J / pi)^(1/4): same stiffness")
-    t.add_row("Equivalent round dia. d_tau", f(sec.equivalent_diameter_strength, "length"),
+    row("Equivalent round dia. d_tau", f(sec.equivalent_diameter_strength, "length"),
               "(16 Wt / pi)^(1/3): same peak stress")
     kts = res.kts
     if kts is None:
-        t.add_row("Stress concentration Kts", "-", "give --nominal-diameter for Kts")
+        row("Stress concentration Kts", "-", "give --nominal-diameter for Kts")
     else:
-        t.add_row("Stress concentration Kts", f"{kts:.3f}",
+        row("Stress concentration Kts", f"{kts:.3f}",
                   f"tau_max / (16 T / (pi d^3)), d = {f(res.nominal_diameter, 'length')}")
     t.add_section()
-    t.add_row("Torque T", f(res.torque, "torque"), "")
-    t.add_row("Length L", f(res.length, "length"), "")
-    t.add_row("Shear modulus G", f(res.shear_modulus, "modulus"),
+    row("Torque T", f(res.torque, "torque"), "")
+    row("Length L", f(res.length, "length"), "")
+    row("Shear modulus G", f(res.shear_modulus, "modulus"),
               f"{mat.label}: {mat.shear_modulus_note}")
     t.add_section()
-    t.add_row("Peak shear stress tau_max", f(res.max_shear_stress, "stress"), "")
-    t.add_row("Allowable shear stress", f(res.allowable.value, "stress"),
+    row("Peak shear stress tau_max", f(res.max_shear_stress, "stress"), "")
+    row("Allowable shear stress", f(res.allowable.value, "stress"),
               criterion_text(res.allowable, sys))
     if res.allowable.criterion and res.allowable.yield_strength is not None:
-        t.add_row("", "", res.allowable.basis.split("; Sy from ", 1)[-1]
+        row("", "", res.allowable.basis.split("; Sy from ", 1)[-1]
                   if "; Sy from " in res.allowable.basis else "")
-    t.add_row("Stress utilisation tau/tau_allow", f"{res.utilisation_stress:.3f}", "")
-    t.add_row("Twist angle", f(res.twist_angle, "angle"), "T L / (G J)")
-    t.add_row("Twist per length", f(res.twist_per_length, "twist_rate"), "")
-    t.add_row("Twist limit", f(res.twist_limit, "twist_rate"), twist_note)
-    t.add_row("Twist utilisation", f"{res.utilisation_twist:.3f}", "")
-    t.add_row("Torsional stiffness G J / L", f(res.torsional_stiffness, "stiffness"),
+    row("Stress utilisation tau/tau_allow", f"{res.utilisation_stress:.3f}", "")
+    row("Twist angle", f(res.twist_angle, "angle"), "T L / (G J)")
+    row("Twist per length", f(res.twist_per_length, "twist_rate"), "")
+    row("Twist limit", f(res.twist_limit, "twist_rate"), twist_note)
+    row("Twist utilisation", f"{res.utilisation_twist:.3f}", "")
+    row("Torsional stiffness G J / L", f(res.torsional_stiffness, "stiffness"),
               f"= {res.torsional_stiffness:.4g} N*m/rad" if sys.name == "SI" else "")
     con.print(t)
     verdict = "[bold green]PASS[/]" if res.passed else "[bold red]FAIL[/]"
     which = ("stress: tau_max / allowable" if res.governs == "stress"
              else "twist: twist per length / limit")
+    why = criterion_text(res.allowable, sys) if res.governs == "stress" else twist_note
     con.print(f"{verdict}: utilisation {res.utilisation:.3f}, governed by {which} "
-              f"({criterion_text(res.allowable, sys) if res.governs == 'stress' else twist_note})")
+              f"({escape(why)})")
     for w in sec.warnings:
-        con.print(f"[bold yellow]warning:[/] {w}")
-    con.print(f"[dim]Caution: {CAUTION}[/]")
+        con.print(f"[bold yellow]warning:[/] {escape(w)}")
+    con.print(f"[dim]Caution: {escape(CAUTION)}[/]")
 
 
 def run(args) -> int:

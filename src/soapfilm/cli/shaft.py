@@ -98,11 +98,12 @@ def shaft_json(res: ShaftResult) -> dict:
 
 
 def print_shaft(res: ShaftResult, sys: UnitSystem, con) -> None:
+    from rich.markup import escape as e
     from rich.table import Table
 
     f = sys.fmt
     m = res.model
-    con.print(f"[bold]{m.name}[/]: {len(m.segments)} segments, length {f(m.length, 'length')}, "
+    con.print(f"[bold]{e(m.name)}[/]: {len(m.segments)} segments, length {f(m.length, 'length')}, "
               f"statically {res.statics}")
     def table(title, cols):
         t = Table(header_style="bold", title=title, title_justify="left")
@@ -124,16 +125,16 @@ def print_shaft(res: ShaftResult, sys: UnitSystem, con) -> None:
     for s in res.segments:
         seg = s.segment
         kts = s.kts
-        t1.add_row(idx(s), seg.name,
+        t1.add_row(idx(s), e(seg.name),
                    f"{sys.value(s.x_start, 'position'):.4g}-{sys.value(s.x_end, 'position'):.4g}",
-                   seg.section.name,
+                   e(seg.section.name),
                    "FE" if seg.section.method != "closed form" else "exact",
                    f(seg.section.torsion_constant, "J"), "-" if kts is None else f"{kts:.2f}")
-        t2.add_row(idx(s), seg.name, f(s.governing_torque, "torque"),
+        t2.add_row(idx(s), e(seg.name), f(s.governing_torque, "torque"),
                    f(s.max_shear_stress, "stress"), f(seg.allowable.value, "stress"),
                    f"{s.utilisation_stress:.3f}",
                    "[green]ok[/]" if s.utilisation_stress <= 1 else "[bold red]over[/]")
-        t3.add_row(idx(s), seg.name, f(seg.material.shear_modulus, "modulus", 3),
+        t3.add_row(idx(s), e(seg.name), f(seg.material.shear_modulus, "modulus", 3),
                    f(s.twist_angle, "angle", 3), f(s.max_twist_per_length, "twist_rate", 3),
                    f"{s.utilisation_twist:.3f}", f(s.torsional_stiffness, "stiffness", 3))
     for t in (t1, t2, t3):
@@ -146,33 +147,34 @@ def print_shaft(res: ShaftResult, sys: UnitSystem, con) -> None:
     rows += [(sp.position, sp.name + " (held)", r, "reaction") for sp, r in res.reactions]
     for x, name, tq, kind in sorted(rows):
         i = int(abs(res.x - x).argmin())
-        st.add_row(name, f(x, "position"), f"{f(tq, 'torque')} ({kind})", f(res.twist[i], "angle"))
+        st.add_row(e(name), f(x, "position"), f"{f(tq, 'torque')} ({kind})",
+                   f(res.twist[i], "angle"))
     con.print(st)
     g = res.governing
     con.print(f"End-to-end twist: {f(res.end_to_end_twist, 'angle')}   "
               f"shaft stiffness (segments in series): {f(res.torsional_stiffness, 'stiffness')}"
               + (f" = {res.torsional_stiffness:.4g} N*m/rad" if sys.name == "SI" else ""))
-    con.print(f"Twist limit {f(m.twist_limit, 'twist_rate')}: {m.twist_limit_note}")
+    con.print(f"Twist limit {f(m.twist_limit, 'twist_rate')}: {e(m.twist_limit_note)}")
     bases = []
     for s in res.segments:
         if s.segment.allowable.basis not in bases:
             bases.append(s.segment.allowable.basis)
     for b in bases:
-        con.print(f"Allowable shear: {b}")
+        con.print(f"Allowable shear: {e(b)}")
     for s in res.segments:
         if s.segment.allowable.source:
-            con.print(f"Criterion source: {s.segment.allowable.source}")
+            con.print(f"Criterion source: {e(s.segment.allowable.source)}")
             break
     which = "stress" if g.utilisation_stress >= g.utilisation_twist else "twist"
     verdict = "[bold green]PASS[/]" if res.passed else "[bold red]FAIL[/]"
-    con.print(f"{verdict}: governing segment {g.index + 1} ({g.segment.name}), utilisation "
+    con.print(f"{verdict}: governing segment {g.index + 1} ({e(g.segment.name)}), utilisation "
               f"{g.utilisation:.3f}, governed by {which}")
     for note in res.notes:
-        con.print(f"[dim]note: {note}[/]")
+        con.print(f"[dim]note: {e(note)}[/]")
     for s in res.segments:
         for w in s.segment.section.warnings:
-            con.print(f"[bold yellow]warning:[/] segment {s.index + 1}: {w}")
-    con.print(f"[dim]Caution: {CAUTION}[/]")
+            con.print(f"[bold yellow]warning:[/] segment {s.index + 1}: {e(w)}")
+    con.print(f"[dim]Caution: {e(CAUTION)}[/]")
 
 
 def run(args) -> int:
