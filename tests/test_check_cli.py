@@ -261,3 +261,54 @@ def test_shaft_cli_overrides(tmp_path):
     assert all(s["allowable_shear_Pa"] == pytest.approx(60e6, rel=1e-12)
                for s in data["segments"])
     assert data["totals"]["twist_limit_rad_per_m"] == pytest.approx(math.radians(2), rel=1e-12)
+
+
+def test_inline_outline_and_section_cache(tmp_path, square):
+    """A shaft with an inline square outline and the same point-list file used twice:
+    J of the square against the exact series (Timoshenko & Goodier, 3rd ed., sec. 109,
+    0.1 % covers the solver's bracket); the file is analysed once (cache by path)."""
+    from soapfilm.shaftfile import SectionSource, read_shaft
+
+    f = _write(tmp_path, f"""
+        name = "square drive"
+        [check]
+        material = "carbon-steel"
+        [[segment]]
+        length = "100 mm"
+        section = {{ outline = [[0, 0], [20, 0], [20, 20], [0, 20]], units = "mm" }}
+        [[segment]]
+        length = "50 mm"
+        section = "{square.name}"
+        [[segment]]
+        length = "50 mm"
+        section = {{ file = "{square.name}" }}
+        [[load]]
+        at = "0 mm"
+        torque = "100 N*m"
+        [[load]]
+        at = "200 mm"
+        torque = "-100 N*m"
+        """)
+    source = SectionSource()
+    model = read_shaft(f, sections=source)
+    j_series, _ = _square_series(20.0)
+    for seg in model.segments:
+        assert seg.section.torsion_constant == pytest.approx(j_series * 1e-12, rel=1e-3)
+    # two analyses: the outline and the file (used by two segments)
+    assert len(source.cache) == 2
+
+
+def test_nominal_diameter_hook_for_shape_files(tmp_path):
+    """Round-based parametric kinds give their own nominal diameter for Kts."""
+    from soapfilm.shaftfile import shapefile_nominal_diameter
+
+    keyed = tmp_path / "k.toml"
+    keyed.write_text('units = "mm"\n[section]\nkind = "keyed_shaft"\ndiameter = 40\n')
+    assert shapefile_nominal_diameter(keyed) == 40.0
+    spline = tmp_path / "s.toml"
+    spline.write_text('[section]\nkind = "involute_spline"\nmodule = 1.25\nteeth = 18\n')
+    assert shapefile_nominal_diameter(spline) is None
+    named = tmp_path / "n.toml"
+    named.write_text('[section]\nkind = "involute_spline"\nnominal_diameter = 22.5\n')
+    assert shapefile_nominal_diameter(named) == 22.5
+    assert shapefile_nominal_diameter(tmp_path / "x.txt") is None

@@ -30,6 +30,7 @@ from .shaft import (
     Segment,
     ShaftModel,
     Support,
+    nominal_diameter_hint,
     round_section,
     section_from_result,
 )
@@ -100,6 +101,10 @@ class SectionSource:
             h = None if size is None else size / LENGTH_UNITS[profile.units]
             self.cache[key] = analyse(profile, mesh_size=h)
         result = self.cache[key]
+        if nominal_diameter is None and nominal_diameter_hint(result) is None:
+            d = shapefile_nominal_diameter(path)
+            if d is not None:
+                nominal_diameter = d * LENGTH_UNITS[result.units]
         return section_from_result(result, nominal_diameter, name=path.stem), result
 
     def from_outline(self, outline, holes, units: str, where: str,
@@ -180,6 +185,37 @@ class SectionSource:
         holes = spec.get("holes", [])
         return self.from_outline(outline, holes, units or "mm", where, nominal, name,
                                  mesh_size)[0]
+
+
+#: shape-file kinds whose ``diameter`` is the nominal diameter for Kts (round-based)
+ROUND_BASED_KINDS = ("round", "tube", "keyed", "flat")
+
+
+def shapefile_nominal_diameter(path) -> float | None:
+    """Nominal diameter written in a TOML shape file, in the file's length unit.
+
+    Hook for the parametric round-based kinds: ``[section] nominal_diameter``
+    if present, else ``[section] diameter`` when the kind is round-based
+    (keyed shafts, flats, round, tube).  None for anything else, including
+    files that are not TOML.
+    """
+    path = Path(path)
+    if path.suffix.lower() != ".toml":
+        return None
+    try:
+        doc = tomllib.loads(path.read_text(encoding="utf-8-sig"))
+    except (OSError, UnicodeDecodeError, tomllib.TOMLDecodeError):
+        return None
+    sec = doc.get("section")
+    if not isinstance(sec, dict):
+        return None
+    d = sec.get("nominal_diameter")
+    kind = str(sec.get("kind", "")).lower()
+    if d is None and any(k in kind for k in ROUND_BASED_KINDS):
+        d = sec.get("diameter")
+    if isinstance(d, int | float) and not isinstance(d, bool) and d > 0:
+        return float(d)
+    return None
 
 
 def _with_nominal(sec: Section, d: float) -> Section:
