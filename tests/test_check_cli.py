@@ -312,3 +312,14 @@ def test_nominal_diameter_hook_for_shape_files(tmp_path):
     named.write_text('[section]\nkind = "involute_spline"\nnominal_diameter = 22.5\n')
     assert shapefile_nominal_diameter(named) == 22.5
     assert shapefile_nominal_diameter(tmp_path / "x.txt") is None
+
+
+def test_yield_option_replaces_file_allowable(tmp_path):
+    """--yield with --criterion tresca and n: 0.5 Sy / n (Shigley ch. 5, from memory)."""
+    f = _write(tmp_path, STEPPED.format(drum="600 N*m", end="250 N*m"))
+    out = tmp_path / "y.json"
+    assert main(["shaft", str(f), "--yield", "50 ksi", "--criterion", "tresca",
+                 "--safety-factor", "1.5", "--json", str(out), "--quiet"]) == 0
+    data = json.loads(out.read_text())
+    want = 0.5 * 50 * NIST_KSI / 1.5
+    assert all(s["allowable_shear_Pa"] == pytest.approx(want, rel=1e-6) for s in data["segments"])

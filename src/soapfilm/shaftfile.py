@@ -78,7 +78,7 @@ class SectionSource:
 
     def from_file(self, path, units: str | None, where: str,
                   nominal_diameter: float | None = None, mesh_size: float | None = None,
-                  ) -> tuple[Section, object]:
+                  missing_fix: str = "check the path") -> tuple[Section, object]:
         """Analyse a section file (any registered reader); return (Section, TorsionResult).
 
         ``nominal_diameter`` and ``mesh_size`` are in metres.
@@ -95,7 +95,7 @@ class SectionSource:
         if key not in self.cache:
             if not path.exists():
                 raise InputError(f"section file {str(path)!r} not found", where=where,
-                                 fix="paths are relative to the shaft file")
+                                 fix=missing_fix)
             profile = read_section(path, units)
             log.info("analysing section %s", path)
             h = None if size is None else size / LENGTH_UNITS[profile.units]
@@ -180,7 +180,8 @@ class SectionSource:
             if not path.is_absolute():
                 path = base / path
             # units None: the reader decides (its own header, else mm)
-            return self.from_file(path, units, where, nominal, mesh_size)[0]
+            return self.from_file(path, units, where, nominal, mesh_size,
+                                  missing_fix="paths are relative to the shaft file")[0]
         outline = spec["outline"]
         holes = spec.get("holes", [])
         return self.from_outline(outline, holes, units or "mm", where, nominal, name,
@@ -295,8 +296,10 @@ def read_shaft(path, options: CheckOptions | None = None,
     except UnicodeDecodeError:
         raise InputError("is not a text file", where=str(path)) from None
     except tomllib.TOMLDecodeError as exc:
-        raise InputError(f"not valid TOML: {exc}", where=str(path),
-                         fix="check quotes, brackets and '=' on that line") from None
+        hint = "check quotes, brackets and '=' on that line"
+        if path.suffix.lower() != ".toml":
+            hint = "a shaft file is a TOML file (.toml); see notes/shaft.md for the keys"
+        raise InputError(f"not valid TOML: {exc}", where=str(path), fix=hint) from None
     return shaft_from_dict(data, path.parent, str(path), options, sections)
 
 
@@ -419,6 +422,8 @@ def shaft_from_dict(data: dict, base: Path, where: str, options: CheckOptions | 
         allow_seg = _q(s, "allowable_shear", "stress", sw, required=False)
         if opts.allowable_shear is not None:
             allow, note = opts.allowable_shear, "given with --allowable-shear"
+        elif opts.yield_strength is not None:
+            allow, note = None, ""  # --yield on the command line replaces the file's allowables
         elif allow_seg is not None:
             allow, note = allow_seg, "given for the segment"
         else:

@@ -45,6 +45,9 @@ def plot_shaft(result: ShaftResult, system: UnitSystem, axes=None):
     ax_t.fill_between(xs, ts, 0.0, step=None, color="#4c72b0", alpha=0.25, lw=0)
     ax_t.plot(xs, ts, color="#4c72b0", lw=1.8)
     ax_t.axhline(0.0, color="0.3", lw=0.8)
+    t_lo, t_hi = min(0.0, float(tq.min())), max(0.0, float(tq.max()))
+    t_pad = 0.12 * max(t_hi - t_lo, 1e-30)
+    ax_t.set_ylim(t_lo - t_pad, t_hi + t_pad)
     ax_t.set_ylabel(f"internal torque [{tu}]")
     ax_t.grid(True, color="0.9")
 
@@ -67,20 +70,32 @@ def plot_shaft(result: ShaftResult, system: UnitSystem, axes=None):
     ax_p.set_xlabel(f"position along the axis x [{lu}]")
     ax_p.grid(True, color="0.9")
 
+    span = x[-1] - x[0]
+
+    def placement(xv):
+        """Text alignment and offset so that labels near the ends stay inside."""
+        if xv - x[0] < 0.08 * span:
+            return "left", 4
+        if x[-1] - xv < 0.08 * span:
+            return "right", -4
+        return "center", 0
+
     # stations: loads and supports
     for ld in result.model.loads:
         xl = system.value(ld.position, "position")
+        ha, dx = placement(xl)
         ax_p.annotate(f"{ld.name}\n{system.fmt(ld.torque, 'torque', 3)}", xy=(xl, 0.0),
-                      xycoords=("data", "axes fraction"), xytext=(0, 4),
-                      textcoords="offset points", ha="center", va="bottom", fontsize=7,
+                      xycoords=("data", "axes fraction"), xytext=(dx, 4),
+                      textcoords="offset points", ha=ha, va="bottom", fontsize=7,
                       color="#8c2d04")
         for ax in axes:
             ax.axvline(xl, color="#8c2d04", lw=0.9, alpha=0.6)
     for sp, r in result.reactions:
         xs_ = system.value(sp.position, "position")
+        ha, dx = placement(xs_)
         ax_p.annotate(f"{sp.name} (held)\nreacts {system.fmt(r, 'torque', 3)}", xy=(xs_, 1.0),
-                      xycoords=("data", "axes fraction"), xytext=(0, -4),
-                      textcoords="offset points", ha="center", va="top", fontsize=7,
+                      xycoords=("data", "axes fraction"), xytext=(dx, -4),
+                      textcoords="offset points", ha=ha, va="top", fontsize=7,
                       color="0.15")
         for ax in axes:
             ax.axvline(xs_, color="0.15", lw=1.6)

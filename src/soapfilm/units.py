@@ -71,13 +71,13 @@ def _dimensionality(kind: str):
     return ureg.Quantity(1).dimensionality if not dim else ureg.get_dimensionality(dim)
 
 
-def _describe(dim) -> str:
+def _describe(dim, unitless: bool = True) -> str:
     """Name a pint dimensionality in words, for error messages."""
     for kind in ("length", "torque", "stress", "twist_rate"):
         if dim == _dimensionality(kind):
             return _NAMES[kind].split(" (")[0]
     if not dim:
-        return "a plain number"
+        return "a plain number" if unitless else "an angle (or another pure number)"
     return f"a quantity of dimension {dim}"
 
 
@@ -166,7 +166,7 @@ def parse_quantity(value, kind: str, where: str) -> float:
         if "lb" in text and "lbf" not in text and kind in ("torque", "stress", "modulus"):
             hint = "write lbf (pound-force) for forces, e.g. \"1800 lbf*in\""
         raise InputError(
-            f"{value!r} is {_describe(dim)}, but {_NAMES[kind]} is expected here",
+            f"{value!r} is {_describe(dim, q.unitless)}, but {_NAMES[kind]} is expected here",
             where=where, fix=hint,
         )
     mag = float(q.to(KINDS[kind][1].replace("rad", "radian")).magnitude)
