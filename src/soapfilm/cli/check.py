@@ -1,0 +1,275 @@
+"""``soapfilm check``: stress, twist and stiffness of one bar under a torque."""
+
+from __future__ import annotations
+
+import argparse
+
+from ..errors import InputError
+from ..materials import CRITERIA, Allowable, Material, criterion_key, material
+from ..profile import LENGTH_UNITS
+from ..result import CAUTION
+from ..shaft import DEFAULT_TWIST_LIMIT, TWIST_LIMIT_NOTE, Section, SectionCheck, check_section
+from ..units import UnitSystem, parse_number, parse_quantity, unit_system
+from ._io import check_writable, console, write_json
+
+NAME = "check"
+HELP = "check a bar section under a torque: peak shear, twist, stiffness, pass or fail"
+
+
+# ----------------------------------------------------------------- options shared with `shaft`
+def add_allowable_args(p: argparse.ArgumentParser) -> None:
+    g = p.add_argument_group("allowable stress and twist")
+    g.add_argument("--allowable-shear", metavar="TAU",
+                   help='allowable shear stress with unit, e.g. "120 MPa" or "17 ksi"')
+    g.add_argument("--yield", dest="yield_strength", metavar="SY",
+                   help='tensile yield strength, e.g. "530 MPa"; the allowable is then '
+                        "c * Sy / n with --criterion and --safety-factor "
+                        "(default: the material preset's typical yield)")
+    g.add_argument("--criterion", metavar="NAME",
+                   help="von-mises: distortion energy, c = 1/sqrt(3) = 0.577 (default); "
+                        "tresca: maximum shear stress, c = 0.5 (Shigley, Mechanical Engineering "
+                        "Design, ch. 5)")
+    g.add_argument("--safety-factor", metavar="N",
+                   help="divides the yield-based allowable (default 1: none)")
+    g.add_argument("--twist-limit", metavar="RATE",
+                   help='allowed twist per length, e.g. "0.25 deg/m" (the default, a rule of '
+                        "thumb for machine shafts, common practice) or \"0.08 deg/ft\"")
+    p.add_argument("--unit-system", default="SI", metavar="SYS",
+                   help="units shown: SI (mm, N*m, MPa, deg) or US (in, lbf*in, ksi, deg); "
+                        "JSON output is always in SI base units")
+
+
+def parse_allowable_args(args) -> dict:
+    """Parse the shared options to SI; check combinations."""
+    out = {
+        "allowable_shear": None if args.allowable_shear is None else
+        parse_quantity(args.allowable_shear, "stress", "--allowable-shear"),
+        "yield_strength": None if args.yield_strength is None else
+        parse_quantity(args.yield_strength, "stress", "--yield"),
+        "criterion": None if args.criterion is None else criterion_key(args.criterion),
+        "safety_factor": None if args.safety_factor is None else
+        parse_number(args.safety_factor, "--safety-factor"),
+        "twist_limit": None if args.twist_limit is None else
+        parse_quantity(args.twist_limit, "twist_rate", "--twist-limit"),
+    }
+    if out["allowable_shear"] is not None:
+        for key, opt in (("yield_strength", "--yield"), ("criterion", "--criterion"),
+                         ("safety_factor", "--safety-factor")):
+            if out[key] is not None:
+                raise InputError(f"{opt} cannot be combined with --allowable-shear",
+                                 where=opt, fix="--allowable-shear is used as given; "
+                                 "drop one of the two")
+        if out["allowable_shear"] <= 0:
+            raise InputError("must be positive", where="--allowable-shear")
+    for key, opt in (("yield_strength", "--yield"), ("twist_limit", "--twist-limit")):
+        if out[key] is not None and out[key] <= 0:
+            raise InputError("must be positive", where=opt)
+    return out
+
+
+def system_of(args) -> UnitSystem:
+    return unit_system(args.unit_system)
+
+
+def section_json(sec: Section, nominal: float | None) -> dict:
+    """Section properties in SI base units."""
+    return {
+        "name": sec.name,
+        "method": sec.method,
+        "torsion_constant_m4": sec.torsion_constant,
+        "torsion_constant_bounds_m4": list(sec.torsion_constant_bounds)
+        if sec.torsion_constant_bounds else None,
+        "max_shear_per_torque_per_m3": sec.max_shear_per_torque,
+        "torsional_section_modulus_m3": sec.torsional_section_modulus,
+        "polar_moment_m4": sec.polar_moment,
+        "area_m2": sec.area,
+        "equivalent_diameter_stiffness_m": sec.equivalent_diameter_stiffness,
+        "equivalent_diameter_strength_m": sec.equivalent_diameter_strength,
+        "nominal_diameter_m": nominal,
+        "stress_concentration_kts": sec.kts(nominal),
+        "warnings": list(sec.warnings),
+    }
+
+
+def allowable_json(a: Allowable) -> dict:
+    return {
+        "allowable_shear_Pa": a.value,
+        "allowable_basis": a.basis,
+        "criterion": a.criterion,
+        "criterion_source": a.source or None,
+        "yield_strength_Pa": a.yield_strength,
+        "safety_factor": a.safety_factor,
+    }
+
+
+def criterion_text(a: Allowable, sys: UnitSystem) -> str:
+    """``0.577 Sy / n = 0.577 x 530 MPa / 2``: the allowable spelled out."""
+    if a.criterion is None:
+        return a.basis
+    factor, name, _ = CRITERIA[a.criterion]
+    return (f"{name}; {factor:.3f} x Sy {sys.fmt(a.yield_strength, 'stress')} / "
+            f"n {a.safety_factor:g}")
+
+
+# ----------------------------------------------------------------- the subcommand
+def add_args(p: argparse.ArgumentParser) -> None:
+    p.add_argument("section", metavar="SECTION", help="section file (point list .txt/.csv/.dat, "
+                   "or any other format soapfilm reads)")
+    p.add_argument("--torque", required=True, metavar="T", help='torque, e.g. "250 N*m"')
+    p.add_argument("--length", required=True, metavar="L", help='bar length, e.g. "1.2 m"')
+    p.add_argument("--material", metavar="NAME",
+                   help="material preset (carbon-steel, alloy-steel, stainless-steel, "
+                        "grey-cast-iron, aluminium-alloy, titanium-alloy, bronze)")
+    p.add_argument("--shear-modulus", metavar="G",
+                   help='shear modulus, e.g. "79.3 GPa" (overrides the preset\'s)')
+    p.add_argument("--nominal-diameter", metavar="D",
+                   help='diameter for Kts = tau_max / (16 T / (pi D^3)), e.g. "40 mm"')
+    add_allowable_args(p)
+    p.add_argument("--units", choices=sorted(LENGTH_UNITS),
+                   help="length unit of the section file when it does not say (default mm)")
+    p.add_argument("--mesh-size", metavar="H", help='element size with unit, e.g. "0.3 mm"')
+    p.add_argument("--json", metavar="OUT", help="write results as JSON (SI base units) to OUT "
+                   "('-' = stdout)")
+    p.add_argument("--quiet", action="store_true", help="no terminal output")
+
+
+def resolve_material(args) -> Material:
+    g = None if args.shear_modulus is None else \
+        parse_quantity(args.shear_modulus, "modulus", "--shear-modulus")
+    if g is not None and g <= 0:
+        raise InputError("must be positive", where="--shear-modulus")
+    if args.material is not None:
+        return material(args.material).overridden(shear_modulus=g, where="--shear-modulus")
+    if g is None:
+        raise InputError("no material", where="check",
+                         fix="give --material NAME (a preset) or --shear-modulus G")
+    return Material("user", "user material", g, None, "--shear-modulus", "not given")
+
+
+def check_json(res: SectionCheck, mat: Material) -> dict:
+    out = {
+        "units": "SI base units (m, N*m, Pa, rad)",
+        "section": section_json(res.section, res.nominal_diameter),
+        "torque_Nm": res.torque,
+        "length_m": res.length,
+        "material": mat.label,
+        "shear_modulus_Pa": res.shear_modulus,
+        "shear_modulus_source": mat.shear_modulus_note,
+        "max_shear_stress_Pa": res.max_shear_stress,
+        **allowable_json(res.allowable),
+        "twist_angle_rad": res.twist_angle,
+        "twist_per_length_rad_per_m": res.twist_per_length,
+        "twist_limit_rad_per_m": res.twist_limit,
+        "torsional_stiffness_Nm_per_rad": res.torsional_stiffness,
+        "utilisation_stress": res.utilisation_stress,
+        "utilisation_twist": res.utilisation_twist,
+        "utilisation": res.utilisation,
+        "governs": res.governs,
+        "passed": res.passed,
+        "caution": CAUTION,
+    }
+    return out
+
+
+def print_check(res: SectionCheck, mat: Material, sys: UnitSystem, twist_note: str,
+                con) -> None:
+    from rich.markup import escape
+    from rich.table import Table
+
+    sec = res.section
+    f = sys.fmt
+    t = Table(title=f"Torsion check: {sec.name}", header_style="bold")
+    t.add_column("quantity")
+    t.add_column("value", justify="right")
+    t.add_column("basis / note")
+
+    def row(q, v, note=""):
+        t.add_row(escape(q), escape(v), escape(note))
+    row("Torsion constant J", f(sec.torsion_constant, "J", 6), sec.method)
+    row("Peak shear per unit torque", f(sec.max_shear_per_torque, "per_torque", 5),
+              sec.method)
+    row("Torsional section modulus Wt", f(sec.torsional_section_modulus, "Wt", 6),
+              "T / tau_max")
+    row("Equivalent round dia. d_J", f(sec.equivalent_diameter_stiffness, "length"),
+              "(32 J / pi)^(1/4): same stiffness")
+    row("Equivalent round dia. d_tau", f(sec.equivalent_diameter_strength, "length"),
+              "(16 Wt / pi)^(1/3): same peak stress")
+    kts = res.kts
+    if kts is None:
+        row("Stress concentration Kts", "-", "give --nominal-diameter for Kts")
+    else:
+        row("Stress concentration Kts", f"{kts:.3f}",
+                  f"tau_max / (16 T / (pi d^3)), d = {f(res.nominal_diameter, 'length')}")
+    t.add_section()
+    row("Torque T", f(res.torque, "torque"), "")
+    row("Length L", f(res.length, "length"), "")
+    row("Shear modulus G", f(res.shear_modulus, "modulus"),
+              f"{mat.label}: {mat.shear_modulus_note}")
+    t.add_section()
+    row("Peak shear stress tau_max", f(res.max_shear_stress, "stress"), "")
+    row("Allowable shear stress", f(res.allowable.value, "stress"),
+              criterion_text(res.allowable, sys))
+    if res.allowable.criterion and res.allowable.yield_strength is not None:
+        row("", "", res.allowable.basis.split("; Sy from ", 1)[-1]
+                  if "; Sy from " in res.allowable.basis else "")
+    row("Stress utilisation tau/tau_allow", f"{res.utilisation_stress:.3f}", "")
+    row("Twist angle", f(res.twist_angle, "angle"), "T L / (G J)")
+    row("Twist per length", f(res.twist_per_length, "twist_rate"), "")
+    row("Twist limit", f(res.twist_limit, "twist_rate"), twist_note)
+    row("Twist utilisation", f"{res.utilisation_twist:.3f}", "")
+    row("Torsional stiffness G J / L", f(res.torsional_stiffness, "stiffness"),
+              f"= {res.torsional_stiffness:.4g} N*m/rad" if sys.name == "SI" else "")
+    con.print(t)
+    verdict = "[bold green]PASS[/]" if res.passed else "[bold red]FAIL[/]"
+    which = ("stress: tau_max / allowable" if res.governs == "stress"
+             else "twist: twist per length / limit")
+    why = criterion_text(res.allowable, sys) if res.governs == "stress" else twist_note
+    con.print(f"{verdict}: utilisation {res.utilisation:.3f}, governed by {which} "
+              f"({escape(why)})")
+    for w in sec.warnings:
+        con.print(f"[bold yellow]warning:[/] {escape(w)}")
+    con.print(f"[dim]Caution: {escape(CAUTION)}[/]")
+
+
+def run(args) -> int:
+    if args.json and args.json != "-":
+        check_writable(args.json, "--json")
+    sys_ = system_of(args)
+    torque = parse_quantity(args.torque, "torque", "--torque")
+    length = parse_quantity(args.length, "length", "--length")
+    if not length > 0:
+        raise InputError("must be positive", where="--length")
+    nominal = None if args.nominal_diameter is None else \
+        parse_quantity(args.nominal_diameter, "length", "--nominal-diameter")
+    if nominal is not None and nominal <= 0:
+        raise InputError("must be positive", where="--nominal-diameter")
+    mesh_size = None
+    if args.mesh_size is not None:
+        mesh_size = parse_quantity(args.mesh_size, "length", "--mesh-size")
+        if mesh_size <= 0:
+            raise InputError("must be positive", where="--mesh-size")
+    mat = resolve_material(args)
+    opts = parse_allowable_args(args)
+    from ..shaftfile import SectionSource, resolve_allowable
+
+    allowable = resolve_allowable(
+        mat, opts["allowable_shear"], opts["yield_strength"], opts["criterion"],
+        opts["safety_factor"], where="check", allowable_note="given with --allowable-shear",
+        yield_note="--yield")
+    twist_limit = opts["twist_limit"] if opts["twist_limit"] is not None else DEFAULT_TWIST_LIMIT
+    twist_note = "given with --twist-limit" if opts["twist_limit"] is not None \
+        else TWIST_LIMIT_NOTE
+
+    source = SectionSource(mesh_size=mesh_size)
+    section, _ = source.from_file(args.section, args.units, "SECTION", nominal_diameter=nominal)
+    res = check_section(section, torque, length, mat.shear_modulus, allowable, twist_limit,
+                        nominal)
+    con = console(args.quiet or args.json == "-")
+    if con:
+        print_check(res, mat, sys_, twist_note, con)
+    if args.json:
+        out = check_json(res, mat)
+        out["twist_limit_basis"] = twist_note
+        write_json(args.json, out)
+    return 0
+

@@ -1,0 +1,557 @@
+"""Shaft checks in torsion: one section, or a stepped shaft of several.
+
+Pure mechanics on plain numbers in SI base units (m, N*m, Pa, rad); nothing
+here reads files or prints.  Each section enters through its torsion
+constant J and its peak shear per unit torque tau_max/T, computed by the
+finite-element solver for any section, or by the closed forms for plain
+round and hollow round sections.
+
+Sign convention: the shaft axis x runs from the left end (x = 0) to the
+right; torques are vectors along +x by the right-hand rule.  The internal
+torque T(x) is the torque the part right of a cut exerts on the part left
+of it, positive along +x, so that ``T = G J d(phi)/dx`` and an end torque
++T0 on a shaft held at x = 0 gives T = +T0 and a positive twist.
+
+References
+----------
+Gere, J. M., Mechanics of Materials: torsion of circular bars, nonuniform
+torsion (stepped bars, sum of T_i L_i / (G_i J_i)) and statically
+indeterminate torsional members (equilibrium plus compatibility of twist).
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from .errors import InputError
+from .materials import Allowable, Material
+
+__all__ = [
+    "Section",
+    "round_section",
+    "section_from_result",
+    "nominal_diameter_hint",
+    "SectionCheck",
+    "check_section",
+    "Segment",
+    "Load",
+    "Support",
+    "ShaftModel",
+    "SegmentResult",
+    "ShaftResult",
+    "analyse_shaft",
+    "DEFAULT_TWIST_LIMIT",
+    "TWIST_LIMIT_NOTE",
+]
+
+#: Default twist-per-length limit, rad/m: 0.25 deg/m for machine shafts.
+DEFAULT_TWIST_LIMIT = math.radians(0.25)
+TWIST_LIMIT_NOTE = (
+    "rule of thumb for machine shafts (common practice, from memory), not a code requirement"
+)
+
+
+# --------------------------------------------------------------------------- sections
+@dataclass(frozen=True)
+class Section:
+    """Torsion properties of a section, in SI units.
+
+    Attributes
+    ----------
+    name : str
+    torsion_constant : float
+        J in m^4.
+    max_shear_per_torque : float
+        tau_max / T in 1/m^3.
+    method : str
+        ``"closed form"`` or ``"finite elements"``.
+    nominal_diameter : float or None
+        Diameter (m) on which Kts is based: 16 T / (pi d^3).
+    area, polar_moment : float or None
+    torsion_constant_bounds : (float, float) or None
+        Guaranteed bracket on J from the solver (m^4).
+    warnings : tuple of str
+    """
+
+    name: str
+    torsion_constant: float
+    max_shear_per_torque: float
+    method: str = "closed form"
+    nominal_diameter: float | None = None
+    area: float | None = None
+    polar_moment: float | None = None
+    torsion_constant_bounds: tuple[float, float] | None = None
+    warnings: tuple[str, ...] = ()
+
+    @property
+    def torsional_section_modulus(self) -> float:
+        """Wt = T / tau_max (m^3)."""
+        return 1.0 / self.max_shear_per_torque
+
+    @property
+    def equivalent_diameter_stiffness(self) -> float:
+        """d_J = (32 J / pi)^(1/4): round bar of the same stiffness (m)."""
+        return (32.0 * self.torsion_constant / math.pi) ** 0.25
+
+    @property
+    def equivalent_diameter_strength(self) -> float:
+        """d_tau = (16 Wt / pi)^(1/3): round bar of the same peak stress (m)."""
+        return (16.0 * self.torsional_section_modulus / math.pi) ** (1.0 / 3.0)
+
+    def kts(self, nominal_diameter: float | None = None) -> float | None:
+        """Stress concentration in torsion, tau_max / (16 T / (pi d^3)).
+
+        Based on ``nominal_diameter`` if given, else the section's own
+        nominal diameter; None when neither is known.
+        """
+        d = nominal_diameter if nominal_diameter is not None else self.nominal_diameter
+        if d is None:
+            return None
+        return self.max_shear_per_torque * math.pi * d**3 / 16.0
+
+
+def round_section(diameter: float, bore: float = 0.0, name: str = "") -> Section:
+    """Solid or hollow round section by the closed forms.
+
+    ``J = pi (d^4 - d_i^4) / 32`` and ``tau_max = T (d/2) / J``, exact for
+    the circle (no polygon, no mesh).
+
+    References
+    ----------
+    Gere, Mechanics of Materials, torsion of circular bars (torsion formula).
+    """
+    if not (diameter > 0 and math.isfinite(diameter)):
+        raise InputError(f"diameter must be positive, got {diameter}")
+    if not (0 <= bore < diameter):
+        raise InputError(f"bore {bore} must be at least 0 and less than the diameter {diameter}")
+    j = math.pi * (diameter**4 - bore**4) / 32.0
+    label = name or (f"round d={diameter * 1e3:g} mm" if bore == 0
+                     else f"tube d={diameter * 1e3:g}/{bore * 1e3:g} mm")
+    return Section(
+        name=label,
+        torsion_constant=j,
+        max_shear_per_torque=0.5 * diameter / j,
+        method="closed form",
+        nominal_diameter=diameter,
+        area=math.pi * (diameter**2 - bore**2) / 4.0,
+        polar_moment=j,
+        torsion_constant_bounds=(j, j),
+    )
+
+
+def nominal_diameter_hint(obj) -> float | None:
+    """Nominal diameter a section carries itself, in ITS length unit.
+
+    Hook for round-based parametric kinds (keyed, splined, flats): a profile
+    (or result) may carry ``nominal_diameter`` as an attribute or in a
+    ``settings``/``meta`` mapping.  Returns None when it does not.
+    """
+    for holder in (obj, getattr(obj, "profile", None)):
+        if holder is None:
+            continue
+        d = getattr(holder, "nominal_diameter", None)
+        if d is None:
+            for name in ("settings", "meta", "metadata", "parameters"):
+                m = getattr(holder, name, None)
+                if isinstance(m, dict) and m.get("nominal_diameter") is not None:
+                    d = m["nominal_diameter"]
+                    break
+        if isinstance(d, int | float) and d > 0:
+            return float(d)
+    return None
+
+
+def section_from_result(result, nominal_diameter: float | None = None, name: str = "") -> Section:
+    """Convert a :class:`~soapfilm.result.TorsionResult` to SI.
+
+    Parameters
+    ----------
+    result : TorsionResult
+        In its profile's length unit.
+    nominal_diameter : float, optional
+        In metres; default: the section's own (see :func:`nominal_diameter_hint`).
+    """
+    from .profile import LENGTH_UNITS
+
+    s = LENGTH_UNITS[result.units]
+    if nominal_diameter is None:
+        hint = nominal_diameter_hint(result)
+        nominal_diameter = None if hint is None else hint * s
+    lo, hi = result.torsion_constant_bounds
+    return Section(
+        name=name or result.profile.name or "section",
+        torsion_constant=result.torsion_constant * s**4,
+        max_shear_per_torque=result.max_shear_per_torque / s**3,
+        method="finite elements",
+        nominal_diameter=nominal_diameter,
+        area=result.area * s**2,
+        polar_moment=result.polar_moment * s**4,
+        torsion_constant_bounds=(lo * s**4, hi * s**4),
+        warnings=tuple(result.warnings),
+    )
+
+
+# --------------------------------------------------------------------------- one section
+@dataclass(frozen=True)
+class SectionCheck:
+    """Stress, twist and stiffness of a prismatic bar under a torque (SI).
+
+    ``utilisation`` is the larger of the stress and the twist utilisation;
+    ``passed`` means it is at most 1.
+    """
+
+    section: Section
+    torque: float
+    length: float
+    shear_modulus: float
+    allowable: Allowable
+    twist_limit: float
+    max_shear_stress: float
+    twist_angle: float
+    twist_per_length: float
+    torsional_stiffness: float
+    utilisation_stress: float
+    utilisation_twist: float
+    nominal_diameter: float | None = None
+
+    @property
+    def utilisation(self) -> float:
+        return max(self.utilisation_stress, self.utilisation_twist)
+
+    @property
+    def governs(self) -> str:
+        return "stress" if self.utilisation_stress >= self.utilisation_twist else "twist"
+
+    @property
+    def passed(self) -> bool:
+        return self.utilisation <= 1.0
+
+    @property
+    def kts(self) -> float | None:
+        return self.section.kts(self.nominal_diameter)
+
+
+def check_section(
+    section: Section,
+    torque: float,
+    length: float,
+    shear_modulus: float,
+    allowable: Allowable,
+    twist_limit: float = DEFAULT_TWIST_LIMIT,
+    nominal_diameter: float | None = None,
+) -> SectionCheck:
+    """Check one prismatic bar: tau = T tau_max/T, phi = T L / (G J), k = G J / L.
+
+    Parameters
+    ----------
+    section : Section
+    torque, length, shear_modulus : float
+        N*m, m, Pa.  The sign of the torque only sets the sense of twist.
+    allowable : Allowable
+        Allowable shear stress.
+    twist_limit : float
+        Allowed twist per length, rad/m.
+    nominal_diameter : float, optional
+        Basis for Kts (m); default the section's own.
+    """
+    for value, what in ((length, "length"), (shear_modulus, "shear modulus"),
+                        (allowable.value, "allowable shear stress"), (twist_limit, "twist limit")):
+        if not (value > 0 and math.isfinite(value)):
+            raise InputError(f"the {what} must be positive, got {value:g}")
+    gj = shear_modulus * section.torsion_constant
+    tau = abs(torque) * section.max_shear_per_torque
+    rate = torque / gj
+    return SectionCheck(
+        section=section,
+        torque=torque,
+        length=length,
+        shear_modulus=shear_modulus,
+        allowable=allowable,
+        twist_limit=twist_limit,
+        max_shear_stress=tau,
+        twist_angle=rate * length,
+        twist_per_length=rate,
+        torsional_stiffness=gj / length,
+        utilisation_stress=tau / allowable.value,
+        utilisation_twist=abs(rate) / twist_limit,
+        nominal_diameter=nominal_diameter if nominal_diameter is not None
+        else section.nominal_diameter,
+    )
+
+
+# --------------------------------------------------------------------------- stepped shafts
+@dataclass(frozen=True)
+class Segment:
+    """A prismatic length of shaft: one section, one material."""
+
+    name: str
+    length: float
+    section: Section
+    material: Material
+    allowable: Allowable
+
+
+@dataclass(frozen=True)
+class Load:
+    """A torque applied at a station (gear, pulley, coupling), N*m along +x."""
+
+    name: str
+    position: float
+    torque: float
+
+
+@dataclass(frozen=True)
+class Support:
+    """A station held against turning: it reacts whatever torque arrives.
+
+    Radial bearings do not react torque and are not supports here.
+    """
+
+    name: str
+    position: float
+
+
+@dataclass(frozen=True)
+class ShaftModel:
+    """A stepped shaft: segments in order from x = 0, loads and supports."""
+
+    name: str
+    segments: tuple[Segment, ...]
+    loads: tuple[Load, ...] = ()
+    supports: tuple[Support, ...] = ()
+    twist_limit: float = DEFAULT_TWIST_LIMIT
+    twist_limit_note: str = TWIST_LIMIT_NOTE
+
+    @property
+    def length(self) -> float:
+        return float(sum(s.length for s in self.segments))
+
+    @property
+    def boundaries(self) -> np.ndarray:
+        """Segment end positions, shape (n_segments + 1,)."""
+        return np.concatenate([[0.0], np.cumsum([s.length for s in self.segments])])
+
+
+@dataclass(frozen=True)
+class SegmentResult:
+    """Results for one segment (SI)."""
+
+    index: int
+    segment: Segment
+    x_start: float
+    x_end: float
+    torque_min: float
+    torque_max: float
+    max_shear_stress: float
+    twist_angle: float
+    max_twist_per_length: float
+    torsional_stiffness: float
+    utilisation_stress: float
+    utilisation_twist: float
+
+    @property
+    def governing_torque(self) -> float:
+        """The internal torque of largest magnitude in the segment (signed)."""
+        return self.torque_max if abs(self.torque_max) >= abs(self.torque_min) else self.torque_min
+
+    @property
+    def utilisation(self) -> float:
+        return max(self.utilisation_stress, self.utilisation_twist)
+
+    @property
+    def passed(self) -> bool:
+        return self.utilisation <= 1.0
+
+    @property
+    def kts(self) -> float | None:
+        return self.segment.section.kts()
+
+
+@dataclass(frozen=True)
+class ShaftResult:
+    """Internal torques, twists and checks of a stepped shaft (SI).
+
+    Attributes
+    ----------
+    x : ndarray (n,)
+        Node positions: segment ends and stations, ascending.
+    twist : ndarray (n,)
+        Twist angle at the nodes (rad), zero at the support (one support),
+        at both supports (two or more), or at x = 0 (no support).
+    piece_torque : ndarray (n - 1,)
+        Internal torque between consecutive nodes (N*m).
+    piece_segment : ndarray (n - 1,)
+        Segment index of each piece.
+    reactions : tuple of (Support, float)
+        Torque each support applies to the shaft (N*m).
+    statics : str
+        ``"determinate"`` or ``"indeterminate"``.
+    """
+
+    model: ShaftModel
+    x: np.ndarray
+    twist: np.ndarray
+    piece_torque: np.ndarray
+    piece_segment: np.ndarray
+    reactions: tuple
+    segments: tuple[SegmentResult, ...]
+    statics: str
+    notes: tuple[str, ...] = field(default=())
+
+    @property
+    def end_to_end_twist(self) -> float:
+        return float(self.twist[-1] - self.twist[0])
+
+    @property
+    def torsional_stiffness(self) -> float:
+        """End-to-end stiffness of the segments in series, 1 / sum(L_i / (G_i J_i))."""
+        return 1.0 / sum(1.0 / s.torsional_stiffness for s in self.segments)
+
+    @property
+    def governing(self) -> SegmentResult:
+        return max(self.segments, key=lambda s: s.utilisation)
+
+    @property
+    def passed(self) -> bool:
+        return all(s.passed for s in self.segments)
+
+
+def _merge_positions(positions: Sequence[float], tol: float) -> np.ndarray:
+    x = np.sort(np.asarray(positions, dtype=float))
+    keep = np.concatenate([[True], np.diff(x) > tol])
+    return x[keep]
+
+
+def analyse_shaft(model: ShaftModel) -> ShaftResult:
+    """Internal torque, twist and checks along a stepped shaft.
+
+    * No support: the applied torques must balance (else :class:`InputError`);
+      the internal torque follows from equilibrium of the part left of each
+      cut, the twist is measured from x = 0.
+    * One support: statically determinate; its reaction balances the applied
+      torques, then as above, with the twist measured from the support.
+    * Two or more supports: statically indeterminate; the rotations of the
+      nodes are found from equilibrium of every node with the twist of each
+      piece ``T L / (G J)`` (compatibility: the held stations do not turn),
+      i.e. the stiffness method on the chain of pieces.
+
+    References
+    ----------
+    Gere, Mechanics of Materials: nonuniform torsion; statically
+    indeterminate torsional members.
+    """
+    segs = model.segments
+    if not segs:
+        raise InputError("the shaft has no segments", fix="add at least one [[segment]]")
+    bounds = model.boundaries
+    total = bounds[-1]
+    tol = 1e-9 * total
+    stations = [(ld.position, ld.name) for ld in model.loads]
+    stations += [(sp.position, sp.name) for sp in model.supports]
+    for pos, name in stations:
+        if pos < -tol or pos > total + tol:
+            raise InputError(
+                f"station {name!r} at x = {pos * 1e3:g} mm lies outside the shaft "
+                f"(0 to {total * 1e3:g} mm)", fix="check its position or the segment lengths")
+    x = _merge_positions(list(bounds) + [p for p, _ in stations], tol)
+    n = len(x)
+    mid = 0.5 * (x[:-1] + x[1:])
+    piece_seg = np.clip(np.searchsorted(bounds, mid, side="right") - 1, 0, len(segs) - 1)
+    lengths = np.diff(x)
+    gj = np.array([segs[i].material.shear_modulus * segs[i].section.torsion_constant
+                   for i in range(len(segs))])[piece_seg]
+    k = gj / lengths
+
+    def node_of(pos):
+        return int(np.argmin(np.abs(x - pos)))
+
+    applied = np.zeros(n)
+    for ld in model.loads:
+        applied[node_of(ld.position)] += ld.torque
+    sup_nodes = [node_of(sp.position) for sp in model.supports]
+    scale = max(float(np.sum(np.abs(applied))), 1e-300)
+    notes = []
+
+    if len(model.supports) <= 1:
+        statics = "determinate"
+        ext = applied.copy()
+        reactions = []
+        if model.supports:
+            r = -float(np.sum(applied))
+            ext[sup_nodes[0]] += r
+            reactions.append((model.supports[0], r))
+            ref = sup_nodes[0]
+        else:
+            imbalance = float(np.sum(applied))
+            if abs(imbalance) > 1e-9 * scale:
+                raise InputError(
+                    f"the applied torques do not balance (they add up to {imbalance:.6g} N*m) "
+                    "and no support is named to react the difference",
+                    fix="correct the torques so that they add up to zero, or add a [[support]] "
+                        "at the station held against turning")
+            ref = 0
+            notes.append("no support: the torques balance; twist measured from the left end")
+        # equilibrium of the part left of each cut
+        torque = -np.cumsum(ext)[:-1]
+        torque[np.abs(torque) <= 1e-12 * scale] = 0.0
+        twist = np.concatenate([[0.0], np.cumsum(torque / k)])
+        twist -= twist[ref]
+    else:
+        statics = "indeterminate"
+        uniq = sorted(set(sup_nodes))
+        if len(uniq) < len(sup_nodes):
+            raise InputError("two supports are at the same station",
+                             fix="give each [[support]] its own position")
+        main = np.zeros(n)
+        main[:-1] += k
+        main[1:] += k
+        # stiffness matrix of the chain (small: one row per node); the held
+        # rotations are zero, the free ones follow from node equilibrium
+        kfull = np.diag(main) - np.diag(k, 1) - np.diag(k, -1)
+        free = np.setdiff1d(np.arange(n), uniq)
+        twist = np.zeros(n)
+        if free.size:
+            twist[free] = np.linalg.solve(kfull[np.ix_(free, free)], applied[free])
+        torque = k * np.diff(twist)
+        kphi = kfull @ twist
+        reactions = [(sp, float(kphi[node_of(sp.position)] - applied[node_of(sp.position)]))
+                     for sp in model.supports]
+
+    results = []
+    for i, seg in enumerate(segs):
+        sel = piece_seg == i
+        t_i = torque[sel]
+        g = seg.material.shear_modulus
+        j = seg.section.torsion_constant
+        tmax_abs = float(np.max(np.abs(t_i)))
+        tau = tmax_abs * seg.section.max_shear_per_torque
+        rate = tmax_abs / (g * j)
+        results.append(SegmentResult(
+            index=i,
+            segment=seg,
+            x_start=float(bounds[i]),
+            x_end=float(bounds[i + 1]),
+            torque_min=float(np.min(t_i)),
+            torque_max=float(np.max(t_i)),
+            max_shear_stress=tau,
+            twist_angle=float(np.sum(t_i * lengths[sel]) / (g * j)),
+            max_twist_per_length=rate,
+            torsional_stiffness=g * j / seg.length,
+            utilisation_stress=tau / seg.allowable.value,
+            utilisation_twist=rate / model.twist_limit,
+        ))
+    return ShaftResult(
+        model=model,
+        x=x,
+        twist=twist,
+        piece_torque=torque,
+        piece_segment=piece_seg,
+        reactions=tuple(reactions),
+        segments=tuple(results),
+        statics=statics,
+        notes=tuple(notes),
+    )
