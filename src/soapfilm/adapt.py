@@ -33,7 +33,7 @@ from collections.abc import Callable
 
 import numpy as np
 
-from .corners import DEFAULT_CORNER_TOL_DEG, reentrant_corners
+from .corners import DEFAULT_CORNER_TOL_DEG, reentrant_corners, weak_concave_vertices
 from .errors import InputError
 from .mesh import Mesh, default_mesh_size, mesh_profile
 from .profile import Profile
@@ -117,7 +117,9 @@ def refine_until(
     if max_elements < 10:
         raise InputError(f"must be at least 10, got {max_elements}", where="--max-elements")
     corners = reentrant_corners(profile, corner_tol_deg)
+    weak = weak_concave_vertices(profile, corner_tol_deg)
     zone = corner_zone_radius(profile)
+    h_floor = 1e-5 * profile.size  # no element is asked to be smaller than this
     size = mesh_size if mesh_size is not None else _COARSE_START * default_mesh_size(profile)
     mesh: Mesh = mesh_profile(profile, size)
     history: list[dict] = []
@@ -126,7 +128,7 @@ def refine_until(
     warnings: list[str] = []
     for step in range(max_steps):
         fields = solve_fields(mesh, order=order, method=method)
-        peak = boundary_peak(mesh, fields, corners, zone)
+        peak = boundary_peak(mesh, fields, corners, zone, weak)
         j = 0.5 * (fields.j_lo + fields.j_hi)
         gap = (fields.j_hi - fields.j_lo) / j
         peaks.append(peak.value)
@@ -157,7 +159,7 @@ def refine_until(
                 f"{perr:.2e} (asked {peak_tol:g}); raise --max-elements or loosen --tol"
             )
             break
-        mesh = _next_mesh(mesh, fields, peak, gap > tol, perr > peak_tol, theta, max_elements)
+        mesh = _next_mesh(mesh, fields, peak, gap > tol, perr > peak_tol, theta, h_floor)
     else:
         warnings.append(f"tolerance not met after {max_steps} refinement steps")
     return _finish(profile, mesh, order, corner_tol_deg, fields, peak, warnings, history, converged)
@@ -179,7 +181,7 @@ def _finish(profile, mesh, order, corner_tol_deg, fields, peak, warnings, histor
     return dataclasses.replace(res, converged=converged)
 
 
-def _next_mesh(mesh, fields, peak, refine_j, refine_peak, theta, max_elements) -> Mesh:
+def _next_mesh(mesh, fields, peak, refine_j, refine_peak, theta, h_floor) -> Mesh:
     area = np.abs(mesh.element_areas())
     limit = np.full(mesh.nelements, np.inf)
     if refine_j:
@@ -192,6 +194,8 @@ def _next_mesh(mesh, fields, peak, refine_j, refine_peak, theta, max_elements) -
         xc, yc = mesh.p[0, t].mean(axis=0), mesh.p[1, t].mean(axis=0)
         near = np.hypot(xc - peak.location[0], yc - peak.location[1]) < 4.0 * h
         limit[near] = np.minimum(limit[near], area[near] / 4.0)
-    if not np.isfinite(limit).any():  # nothing marked (cannot happen with theta > 0)
-        limit = area / 2.0
+    floor = np.sqrt(3.0) / 4.0 * h_floor**2
+    limit = np.where(np.isfinite(limit), np.maximum(limit, floor), limit)
+    if not np.any(limit < area):  # nothing left to refine above the floor: refine uniformly
+        limit = np.maximum(area / 2.0, floor)
     return mesh.refined(limit)

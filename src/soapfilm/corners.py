@@ -68,3 +68,35 @@ def reentrant_corners(profile: Profile, tol_deg: float = DEFAULT_CORNER_TOL_DEG)
         for i in np.flatnonzero(interior > 180.0 + tol_deg):
             found.append(Corner(float(loop[i, 0]), float(loop[i, 1]), float(interior[i]), k))
     return tuple(found)
+
+
+def weak_concave_vertices(
+    profile: Profile, tol_deg: float = DEFAULT_CORNER_TOL_DEG
+) -> tuple[np.ndarray, np.ndarray]:
+    """Slightly re-entrant vertices (flattened concave curves) and their zone radii.
+
+    A vertex with interior angle in (180, 180 + tol_deg] is a polygon vertex on
+    what is, in the part, a smooth concave curve.  The polygon has a weak
+    singularity there (stress ~ r^(pi/alpha - 1), exponent a few hundredths),
+    so a peak taken at the vertex creeps upward under refinement.  The peak is
+    taken at least a quarter of the shorter adjacent chord away from such
+    vertices, where the stress is that of the curve to within the flattening
+    error.
+
+    Returns
+    -------
+    xy : ndarray (k, 2)
+    radius : ndarray (k,)
+    """
+    pts, rad = [], []
+    for loop in profile.loops:
+        d_in = loop - np.roll(loop, 1, axis=0)
+        d_out = np.roll(loop, -1, axis=0) - loop
+        cross = d_in[:, 0] * d_out[:, 1] - d_in[:, 1] * d_out[:, 0]
+        dot = np.einsum("ij,ij->i", d_in, d_out)
+        interior = 180.0 - np.degrees(np.arctan2(cross, dot))
+        weak = (interior > 180.0 + 1e-6) & (interior <= 180.0 + tol_deg)
+        chord = np.minimum(np.hypot(*d_in.T), np.hypot(*d_out.T))
+        pts.append(loop[weak])
+        rad.append(0.25 * chord[weak])
+    return np.concatenate(pts), np.concatenate(rad)

@@ -113,8 +113,8 @@ class TorsionResult:
             "peak_location": list(self.peak_location),
             "equivalent_diameter_stiffness": self.equivalent_diameter_stiffness,
             "equivalent_diameter_strength": self.equivalent_diameter_strength,
-            "estimated_relative_error": dict(self.estimated_relative_error),
-            "refinement": [dict(r) for r in self.refinement],
+            "estimated_relative_error": _json_safe(self.estimated_relative_error),
+            "refinement": [_json_safe(r) for r in self.refinement],
             "singular_corners": [
                 {"x": c.x, "y": c.y, "interior_angle_deg": c.angle} for c in self.corners
             ],
@@ -173,6 +173,11 @@ class TorsionResult:
             + (f"<ul>{warn}</ul>" if warn else "")
             + f"<p><small>{CAUTION}</small></p>"
         )
+
+
+def _json_safe(d: dict) -> dict:
+    """Non-finite floats (an error estimate not yet available) become None (null)."""
+    return {k: (None if isinstance(v, float) and not math.isfinite(v) else v) for k, v in d.items()}
 
 
 def nodal_shear_magnitude(result: TorsionResult) -> np.ndarray:

@@ -12,7 +12,13 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .corners import CORNER_ZONE_FRACTION, DEFAULT_CORNER_TOL_DEG, Corner, reentrant_corners
+from .corners import (
+    CORNER_ZONE_FRACTION,
+    DEFAULT_CORNER_TOL_DEG,
+    Corner,
+    reentrant_corners,
+    weak_concave_vertices,
+)
 from .fem.torsion import TorsionFields, element_gradients, recovered_gradient, solve_torsion
 from .mesh import Mesh, mesh_profile
 from .profile import Profile
@@ -80,15 +86,30 @@ def corner_zone_radius(profile: Profile) -> float:
 
 
 def boundary_peak(
-    mesh: Mesh, fields: TorsionFields, corners: tuple[Corner, ...] = (), zone: float = 0.0
+    mesh: Mesh,
+    fields: TorsionFields,
+    corners: tuple[Corner, ...] = (),
+    zone: float = 0.0,
+    weak: tuple[np.ndarray, np.ndarray] | None = None,
 ) -> Peak:
-    """Peak boundary shear, leaving out nodes within ``zone`` of a sharp corner."""
+    """Peak boundary shear, leaving out nodes near corners.
+
+    Nodes within ``zone`` of a sharp re-entrant corner are left out (the stress
+    is unbounded there), and so are nodes within the radius of a slightly
+    re-entrant polygon vertex of a flattened concave curve (``weak``, from
+    :func:`soapfilm.corners.weak_concave_vertices`).
+    """
     nodes, tau_phi, tau_w = boundary_shear(mesh, fields)
     xy = mesh.p[:, nodes]
     away = np.ones(len(nodes), dtype=bool)
     for c in corners:
         away &= np.hypot(xy[0] - c.x, xy[1] - c.y) > zone
     near = float(tau_phi[~away].max()) if np.any(~away) else 0.0
+    if weak is not None and len(weak[0]):
+        from scipy.spatial import cKDTree
+
+        dist, idx = cKDTree(weak[0]).query(xy.T)
+        away &= dist >= weak[1][idx]
     if not np.any(away):  # degenerate: every boundary node is near a corner
         away[:] = True
     i = int(np.flatnonzero(away)[np.argmax(tau_phi[away])])
@@ -134,7 +155,8 @@ def result_from_mesh(
     if fields is None:
         fields = solve_fields(mesh, order=order, method=method)
     if peak is None:
-        peak = boundary_peak(mesh, fields, corners, zone)
+        weak = weak_concave_vertices(profile, corner_tol_deg)
+        peak = boundary_peak(mesh, fields, corners, zone, weak)
     j_lo, j_hi = fields.j_lo, fields.j_hi
     j = 0.5 * (j_lo + j_hi)
     errors = {"torsion_constant": (j_hi - j_lo) / (j_hi + j_lo)}

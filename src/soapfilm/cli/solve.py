@@ -26,6 +26,38 @@ def add_args(p: argparse.ArgumentParser) -> None:
     p.add_argument("--json", metavar="OUT", help="write results as JSON to OUT ('-' = stdout)")
     p.add_argument("--quiet", action="store_true", help="no terminal table")
     add_drawing_args(p)
+    add_accuracy_args(p)
+
+
+# --- accuracy options (adaptive refinement, element order) ---------------------
+def add_accuracy_args(p: argparse.ArgumentParser) -> None:
+    from ..adapt import DEFAULT_MAX_ELEMENTS, DEFAULT_TOL
+
+    g = p.add_argument_group("accuracy")
+    g.add_argument("--tol", type=float, metavar="REL",
+                   help=f"refine adaptively until the guaranteed J bracket, (J_hi - J_lo)/J, and "
+                        f"the estimated peak-shear error meet this (default {DEFAULT_TOL:g}; "
+                        f"with --mesh-size and no --tol: one solve on that mesh)")
+    g.add_argument("--peak-tol", type=float, metavar="REL",
+                   help="tolerance for the peak shear's estimated error (default max(tol, 2e-3))")
+    g.add_argument("--max-elements", type=int, default=DEFAULT_MAX_ELEMENTS, metavar="N",
+                   help=f"stop refining at N elements (default {DEFAULT_MAX_ELEMENTS})")
+    g.add_argument("--order", type=int, choices=(1, 2), default=1,
+                   help="element order: 1 linear, 2 quadratic triangles (default 1)")
+
+
+def accuracy_options(args) -> dict:
+    from ..adapt import DEFAULT_TOL
+
+    if args.tol is None and args.mesh_size is not None:
+        return {"order": args.order}
+    return {
+        "tol": DEFAULT_TOL if args.tol is None else args.tol,
+        "peak_tol": args.peak_tol,
+        "max_elements": args.max_elements,
+        "order": args.order,
+    }
+# --- end accuracy options ------------------------------------------------------
 
 
 # --- DXF drawing options (passed to readers that take them) -------------------
@@ -65,7 +97,7 @@ def run(args) -> int:
     if args.json and args.json != "-":
         check_writable(args.json, "--json")
     profile = read_section(args.input, args.units, **drawing_options(args))
-    result = analyse(profile, mesh_size=args.mesh_size)
+    result = analyse(profile, mesh_size=args.mesh_size, **accuracy_options(args))
     con = console(args.quiet or args.json == "-")
     if con:
         print_summary(result, con)

@@ -187,42 +187,36 @@ def recovered_gradient(p, t, area, elem_values, nodes) -> np.ndarray:
     """
     n = p.shape[1]
     m = t.shape[1]
-    inc = sp.csr_matrix(
-        (np.ones(3 * m), (t.ravel(), np.tile(np.arange(m), 3))), shape=(n, m)
-    )
-    sub = inc[nodes]
-    patch = ((sub @ inc.T) @ inc).tocsr()
-    patch.data[:] = 1.0
+    nodes = np.asarray(nodes)
+    inc = sp.csr_matrix((np.ones(3 * m), (t.ravel(), np.tile(np.arange(m), 3))), shape=(n, m))
+    patch = ((inc[nodes] @ inc.T) @ inc).tocoo()
+    row, col = patch.row, patch.col  # (node in `nodes`, element) pairs of the patches
     xc, yc = p[0, t].mean(axis=0), p[1, t].mean(axis=0)
-    xn, yn = p[0, nodes], p[1, nodes]
-    w = area
-    s = {}
-    for name, vec in {
-        "1": w, "x": w * xc, "y": w * yc, "xx": w * xc * xc, "xy": w * xc * yc, "yy": w * yc * yc,
-    }.items():
-        s[name] = patch @ vec
-    s0 = s["1"]
-    sx = s["x"] - xn * s0
-    sy = s["y"] - yn * s0
-    sxx = s["xx"] - 2 * xn * s["x"] + xn * xn * s0
-    syy = s["yy"] - 2 * yn * s["y"] + yn * yn * s0
-    sxy = s["xy"] - xn * s["y"] - yn * s["x"] + xn * yn * s0
+    dx = xc[col] - p[0, nodes][row]  # centroid offsets from the node: no cancellation
+    dy = yc[col] - p[1, nodes][row]
+    w = area[col]
+    nb = len(nodes)
+
+    def psum(v):
+        return np.bincount(row, weights=v, minlength=nb)
+
+    s0, sx, sy = psum(w), psum(w * dx), psum(w * dy)
+    sxx, sxy, syy = psum(w * dx * dx), psum(w * dx * dy), psum(w * dy * dy)
+    # scale the linear terms by the patch radius so the 3x3 systems are well conditioned
+    scale = np.sqrt((sxx + syy) / s0)
+    scale = np.where(scale > 0, scale, 1.0)
+    one = np.ones(nb)
+    d = np.stack([one, scale, scale], -1)
     mat = np.stack(
-        [np.stack([s0, sx, sy], -1), np.stack([sx, sxx, sxy], -1), np.stack([sy, sxy, syy], -1)],
-        -2,
-    )  # (nb, 3, 3)
+        [np.stack([s0, sx, sy], -1), np.stack([sx, sxx, sxy], -1), np.stack([sy, sxy, syy], -1)], -2
+    ) / d[:, :, None] / d[:, None, :]
+    # a tiny ridge keeps a degenerate patch (collinear centroids) solvable: it then
+    # returns close to the weighted mean
+    mat += 1e-12 * s0[:, None, None] * np.eye(3)
     vals = np.atleast_2d(elem_values)
-    out = np.empty((vals.shape[0], len(nodes)))
-    scale = np.sqrt(np.maximum(sxx + syy, 1e-300) / s0)
+    out = np.empty((vals.shape[0], nb))
     for c in range(vals.shape[0]):
-        g = vals[c] * w
-        r0 = patch @ g
-        rx = patch @ (g * xc) - xn * r0
-        ry = patch @ (g * yc) - yn * r0
-        rhs = np.stack([r0, rx, ry], -1)
-        # scale the linear terms so the 3x3 systems are well conditioned
-        d = np.stack([np.ones_like(scale), scale, scale], -1)
-        ms = mat / d[:, :, None] / d[:, None, :]
-        coef = np.linalg.solve(ms, (rhs / d)[..., None])[..., 0]
-        out[c] = coef[:, 0]
+        g = vals[c][col] * w
+        rhs = np.stack([psum(g), psum(g * dx), psum(g * dy)], -1) / d
+        out[c] = np.linalg.solve(mat, rhs[..., None])[:, 0, 0]
     return out
