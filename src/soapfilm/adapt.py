@@ -189,10 +189,11 @@ def _next_mesh(mesh, fields, peak, refine_j, refine_peak, theta, h_floor) -> Mes
         limit[marked] = area[marked] / 2.0
     if refine_peak:
         t = mesh.t[:3]
-        around = np.any(t == peak.node, axis=0)
-        h = np.sqrt(np.mean(area[around]) * 4 / np.sqrt(3))
         xc, yc = mesh.p[0, t].mean(axis=0), mesh.p[1, t].mean(axis=0)
-        near = np.hypot(xc - peak.location[0], yc - peak.location[1]) < 4.0 * h
+        dist = np.hypot(xc - peak.location[0], yc - peak.location[1])
+        closest = np.argsort(dist)[:6]  # the elements round the peak point
+        h = np.sqrt(np.mean(area[closest]) * 4 / np.sqrt(3))
+        near = dist < 4.0 * h
         limit[near] = np.minimum(limit[near], area[near] / 4.0)
     floor = np.sqrt(3.0) / 4.0 * h_floor**2
     limit = np.where(np.isfinite(limit), np.maximum(limit, floor), limit)

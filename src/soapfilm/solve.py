@@ -100,7 +100,7 @@ def boundary_peak(
     :func:`soapfilm.corners.weak_concave_vertices`).
     """
     nodes, tau_phi, tau_w = boundary_shear(mesh, fields)
-    xy = mesh.p[:, nodes]
+    xy = fields.p[:, nodes] + fields.origin[:, None]  # input coordinates (P2: midpoints too)
     away = np.ones(len(nodes), dtype=bool)
     for c in corners:
         away &= np.hypot(xy[0] - c.x, xy[1] - c.y) > zone
@@ -117,7 +117,7 @@ def boundary_peak(
     return Peak(
         value=float(tau_phi[i]),
         node=node,
-        location=(float(mesh.p[0, node]), float(mesh.p[1, node])),
+        location=(float(xy[0, i]), float(xy[1, i])),
         value_warping=float(tau_w[i]),
         near_corner=near,
     )
