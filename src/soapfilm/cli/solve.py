@@ -16,7 +16,8 @@ HELP = "compute J, peak shear per unit torque and related properties of a sectio
 
 
 def add_args(p: argparse.ArgumentParser) -> None:
-    p.add_argument("input", metavar="INPUT", help="section file (point list .txt/.csv/.dat)")
+    p.add_argument("input", metavar="INPUT",
+                   help="section file (point list .txt/.csv/.dat, shape file .toml)")
     p.add_argument("--units", choices=sorted(LENGTH_UNITS),
                    help="length unit of the input when the file does not say (default mm)")
     p.add_argument("--mesh-size", type=float, metavar="H",
@@ -47,7 +48,12 @@ def run(args) -> int:
     if args.json and args.json != "-":
         check_writable(args.json, "--json")
     profile = read_section(args.input, args.units)
-    result = analyse(profile, mesh_size=args.mesh_size)
+    # shape files (.toml) may carry [mesh] size and [solve] method; the command line wins
+    from ..readers.shapefile import settings_for
+
+    opts = settings_for(args.input)
+    mesh_size = args.mesh_size if args.mesh_size is not None else opts.get("mesh_size")
+    result = analyse(profile, mesh_size=mesh_size, method=opts.get("method", "auto"))
     con = console(args.quiet or args.json == "-")
     if con:
         print_summary(result, con)

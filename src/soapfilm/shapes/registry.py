@@ -195,7 +195,7 @@ def kind_named(name: str, where: str | None = None) -> Kind:
     """The kind called ``name`` or an InputError naming it and the closest kind."""
     if not isinstance(name, str) or name not in KINDS:
         raise InputError(f"unknown shape kind {name!r}", where=where,
-                         fix=suggest(name, KINDS) + " ('soapfilm shapes' lists them)")
+                         fix=suggest(name, KINDS) + "; 'soapfilm shapes' lists them")
     return KINDS[name]
 
 
