@@ -58,5 +58,4 @@ def read_section(path, units: str | None = None) -> Profile:
 
 
 # readers register on import
-from . import pointlist  # noqa: E402,F401
-from . import shapefile  # noqa: E402,F401  # isort: skip
+from . import pointlist, shapefile  # noqa: E402,F401
