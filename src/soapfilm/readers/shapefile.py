@@ -202,6 +202,11 @@ def _part(tab, where: str, base: Path, units: str, chord: float | None,
             choices = list(KINDS) + list(SPECIAL_KINDS)
             raise InputError(f"unknown kind {kind!r}", where=where,
                              fix=suggest(kind, choices) + "; 'soapfilm shapes' lists them")
+        allowed = [p.name for p in KINDS[kind].params] + sorted(common)
+        for k in dims:
+            if k not in allowed:
+                raise InputError(f"unknown key {k!r} for kind {kind!r}", where=where,
+                                 fix=suggest(k, allowed))
         prof = build(kind, dims, chord=chord, units=units, where=where)
     rot = tab.get("rotate", 0.0)
     if isinstance(rot, bool) or not isinstance(rot, (int, float)) or not math.isfinite(rot):
