@@ -393,3 +393,53 @@ def test_impossible_dimensions_exit_2(func, kw, msg, tmp_path, capsys):
     err = capsys.readouterr().err.strip()
     assert "\n" not in err and msg in err and "bad.toml [section]" in err
     assert not out.exists()
+
+
+# ---------------------------------------------------------------- property checks
+from hypothesis import assume, given, settings  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+
+
+@settings(max_examples=40, deadline=None)
+@given(d=st.floats(8, 200), wr=st.floats(0.05, 0.6), tr=st.floats(0.02, 0.95),
+       rr=st.floats(0, 1), n=st.integers(1, 4))
+def test_keyed_shaft_area_any_valid_size(d, wr, tr, rr, n):
+    """Any valid keyed shaft: area = pi R^2 - n (strip above the floor) + n 2 rf^2 (1 - pi/4)
+    (elementary integrals, see test_keyed_shaft_area); impossible ones raise InputError."""
+    R = d / 2
+    w = wr * d
+    rise = R - math.sqrt(R * R - (w / 2) ** 2)
+    t1 = rise + tr * (R - rise) * 0.999
+    side = math.sqrt(R * R - (w / 2) ** 2) - (R - t1)
+    rf = rr * min(w / 2, side)
+    try:
+        p = keyed_shaft(d, key_width=w, key_depth=t1, floor_radius=rf, keyways=n)
+    except InputError as exc:
+        assert "overlap" in str(exc)
+        assume(False)
+    a = w / 2
+    strip = strip_in_circle(a, R) - 2 * a * (R - t1)
+    expect = math.pi * R * R - n * strip + n * 2 * rf * rf * (1 - math.pi / 4)
+    assert p.area == pytest.approx(expect, abs=chord_area_tol(p, DEFAULT_CHORD_REL * d))
+
+
+@settings(max_examples=40, deadline=None)
+@given(d=st.floats(4, 300), hr=st.floats(0.01, 0.99), flats=st.integers(1, 2))
+def test_flatted_shaft_area_any_valid_size(d, hr, flats):
+    """Any D or double-D shaft: area = pi R^2 - flats * segment(R, h) (segment formula)."""
+    R = d / 2
+    h = hr * (d if flats == 1 else R)
+    p = flatted_shaft(d, flats=flats, flat_depth=h)
+    expect = math.pi * R * R - flats * segment(R, h)
+    assert p.area == pytest.approx(expect, abs=chord_area_tol(p, DEFAULT_CHORD_REL * d))
+
+
+@pytest.mark.parametrize("size", [s for s in __import__(
+    "soapfilm.shapes.splines", fromlist=["iso14_table"]).iso14_table()],
+    ids=lambda s: f"{s.series}-{s.splines}x{s.minor:g}x{s.major:g}")
+def test_every_iso14_size_builds_with_the_closed_form_area(size):
+    """All shipped ISO 14 sizes: area = pi r^2 + N (strip between minor and major circles)."""
+    p = straight_spline(series=size.series, minor_diameter=size.minor)
+    r, R, a = size.minor / 2, size.major / 2, size.width / 2
+    expect = math.pi * r * r + size.splines * (strip_in_circle(a, R) - strip_in_circle(a, r))
+    assert p.area == pytest.approx(expect, abs=chord_area_tol(p, DEFAULT_CHORD_REL * size.major))

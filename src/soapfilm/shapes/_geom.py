@@ -93,6 +93,12 @@ def quad_segs(radius: float, chord: float) -> int:
     return arc_segments(radius, math.pi / 2, chord)
 
 
+def _negligible(poly, radius: float) -> bool:
+    """Radii below 1e-9 of the shape's size are sharp corners (and upset offsetting)."""
+    x0, y0, x1, y1 = poly.bounds
+    return radius <= 1e-9 * max(x1 - x0, y1 - y0)
+
+
 def fillet_concave(poly, radius: float, chord: float):
     """Round every concave (re-entrant) corner of ``poly`` with ``radius``.
 
@@ -102,7 +108,7 @@ def fillet_concave(poly, radius: float, chord: float):
     fillet tangent to both sides.  Gaps narrower than ``2 * radius`` would be
     bridged, so callers check that their fillets fit first.
     """
-    if radius <= 0:
+    if _negligible(poly, radius):
         return poly
     q = quad_segs(radius, chord)
     grown = poly.buffer(radius, quad_segs=q, join_style="mitre", mitre_limit=_MITRE)
@@ -111,7 +117,7 @@ def fillet_concave(poly, radius: float, chord: float):
 
 def round_convex(poly, radius: float, chord: float):
     """Round every convex corner of ``poly`` with ``radius`` (morphological opening)."""
-    if radius <= 0:
+    if _negligible(poly, radius):
         return poly
     q = quad_segs(radius, chord)
     shrunk = poly.buffer(-radius, quad_segs=q, join_style="mitre", mitre_limit=_MITRE)
