@@ -66,6 +66,8 @@ class Param:
             return "required"
         if self.default is None:
             return self.default_text or "-"
+        if isinstance(self.default, float):
+            return f"{self.default:g}"
         return str(self.default)
 
 
@@ -91,8 +93,8 @@ def L(name, default, text, default_text=""):  # noqa: N802 - short table helpers
     return Param(name, "length", default, text, default_text)
 
 
-def N(name, default, text):  # noqa: N802
-    return Param(name, "count", default, text)
+def N(name, default, text, default_text=""):  # noqa: N802
+    return Param(name, "count", default, text, default_text)
 
 
 R = REQUIRED
@@ -136,7 +138,7 @@ _KIND_LIST = [
           L("across_flats", None, "size over the flat(s)", "give this or flat_depth")),
          shafts.flatted_shaft, (("diameter", 20), ("flat_depth", 1.5))),
     Kind("straight_spline", "spline", "shaft with straight-sided splines (ISO 14 sizes)",
-         (N("splines", None, "number of splines N"),
+         (N("splines", None, "number of splines N", "ISO 14 with series"),
           L("minor_diameter", R, "minor (root) diameter d"),
           L("major_diameter", None, "major (outside) diameter D", "ISO 14 with series"),
           L("spline_width", None, "spline width B", "ISO 14 with series"),
