@@ -126,6 +126,23 @@ def test_file_reference_is_relative_to_the_shape_file(tmp_path):
     assert read_section(f).area == pytest.approx(100.0, rel=1e-12)
 
 
+def test_referenced_drawing_in_other_units_is_converted(tmp_path, monkeypatch):
+    """A referenced file whose reader reports inches (as a DXF with a unit header would)
+    is scaled into the shape file's mm: 1 in = 25.4 mm (exact by definition)."""
+    from soapfilm import Profile
+    from soapfilm.readers import READERS
+
+    def inch_reader(path, units):
+        return Profile.from_loops([[(0, 0), (1, 0), (1, 2), (0, 2)]], units="in")
+
+    monkeypatch.setitem(READERS, ".inchtest", inch_reader)
+    (tmp_path / "part.inchtest").write_text("")
+    f = write(tmp_path, 'units = "mm"\n[section]\nkind = "file"\nfile = "part.inchtest"\n')
+    p = read_section(f)
+    assert p.units == "mm"
+    assert p.area == pytest.approx(2 * 25.4**2, rel=1e-12)
+
+
 def test_missing_referenced_file(tmp_path, capsys):
     f = write(tmp_path, '[section]\nkind = "file"\nfile = "drawings/nope.txt"\n')
     fails(f, capsys, "s.toml [section]", "'drawings/nope.txt' not found")

@@ -19,6 +19,7 @@ from soapfilm.shapes import (
     box_tube,
     channel,
     difference,
+    ellipse,
     flatted_shaft,
     i_section,
     involute_spline,
@@ -86,6 +87,36 @@ def test_chord_tolerance_is_respected():
     sag = 25.0 - np.hypot(mid[:, 0], mid[:, 1])
     assert sag.max() <= chord * (1 + 1e-9)
     assert sag.max() > 0.5 * chord  # not needlessly fine
+
+
+@pytest.mark.parametrize("a, b", [(20.0, 5.0), (20.0, 1.0), (20.0, 19.0)])
+def test_ellipse_sagitta_within_chord(a, b):
+    """Vertices lie on x^2/a^2 + y^2/b^2 = 1, and the ellipse point at each edge's middle
+    eccentric angle is at most one chord from the edge (elementary geometry)."""
+    chord = DEFAULT_CHORD_REL * 2 * a
+    xy = ellipse(2 * a, 2 * b).outer
+    np.testing.assert_allclose((xy[:, 0] / a) ** 2 + (xy[:, 1] / b) ** 2, 1.0, rtol=0, atol=1e-12)
+    t = np.unwrap(np.arctan2(xy[:, 1] / b, xy[:, 0] / a))
+    tm = 0.5 * (t + np.append(t[1:], t[0] + 2 * np.pi))
+    mid = np.column_stack([a * np.cos(tm), b * np.sin(tm)])
+    e = np.roll(xy, -1, axis=0) - xy
+    v = mid - xy
+    gap = np.abs(e[:, 0] * v[:, 1] - e[:, 1] * v[:, 0]) / np.hypot(e[:, 0], e[:, 1])
+    assert gap.max() <= chord
+    assert gap.max() > 0.3 * chord  # not needlessly fine
+
+
+def test_ellipse_j_closed_form():
+    """Ellipse semi-axes a, b: J = pi a^3 b^3 / (a^2 + b^2) (Saint-Venant's elliptic bar;
+    Roark's Formulas for Stress and Strain, 7th ed., Table 10.1, from memory).  The exact
+    value must lie in the solver's guaranteed bracket, allowing for the flattening, which
+    lowers J by less than 1e-4 (soapfilm.shapes._geom); mesh size b/25."""
+    a, b = 20.0, 10.0
+    r = analyse(ellipse(2 * a, 2 * b), mesh_size=b / 25)
+    lo, hi = r.torsion_constant_bounds
+    exact = math.pi * a**3 * b**3 / (a * a + b * b)
+    assert lo <= exact and hi >= (1 - 1e-4) * exact
+    assert r.torsion_constant == pytest.approx(exact, rel=3e-4)
 
 
 # ---------------------------------------------------------------- areas

@@ -66,7 +66,8 @@ PART_KEYS = {
 SPECIAL_KINDS = {
     "outline": {"points": "[[x, y], ...] the outside boundary, any orientation",
                 "holes": "[[[x, y], ...], ...] hole boundaries (optional)"},
-    "file": {"file": "point list (.txt, .csv) or DXF drawing, relative to this file"},
+    "file": {"file": "point list (.txt, .csv) or DXF drawing, relative to this file; "
+                     "a drawing in other units is converted to the shape file's units"},
 }
 MESH_KEYS = {
     "size": "element edge length in the file's unit (default: from the section)",
@@ -196,7 +197,10 @@ def _part(tab, where: str, base: Path, units: str, chord: float | None,
             if not target.exists():
                 raise InputError(f"file {ref!r} not found (looked in {target.parent})",
                                  where=where, fix="paths are relative to the shape file")
-            prof = read_section(target, units).with_units(units)
+            prof = read_section(target, units)
+            if prof.units != units:  # e.g. a DXF drawing with its own unit header
+                factor = LENGTH_UNITS[prof.units] / LENGTH_UNITS[units]
+                prof = prof.scaled(factor).with_units(units)
     else:
         if not isinstance(kind, str) or kind not in KINDS:
             choices = list(KINDS) + list(SPECIAL_KINDS)

@@ -16,7 +16,7 @@ from shapely.geometry import Polygon, box
 from ..errors import InputError
 from ..profile import Profile
 from ._check import count_at_least, fmt, nonnegative, positive
-from ._geom import arc_segments, chord_for, circle, round_convex, to_profile
+from ._geom import chord_for, circle, round_convex, to_profile
 
 __all__ = ["round_bar", "tube", "ellipse", "rectangle", "box_tube", "regular_polygon"]
 
@@ -46,18 +46,19 @@ def ellipse(width: float, height: float, *, chord: float | None = None,
             units: str = "mm") -> Profile:
     """Solid ellipse with full axes ``width`` (along x) and ``height`` (along y).
 
-    Vertices are placed at equal steps of the eccentric angle, their number set
-    by the sagitta on the sharper end (radius of curvature b^2/a).
+    Vertices at equal steps ``dt`` of the eccentric angle t.  The sagitta of a step is
+    about ``(v dt)^2 / (8 rho)`` with speed ``v = |dr/dt|`` and radius of curvature
+    ``rho = v^3 / (a b)``, i.e. ``a b dt^2 / (8 v)``; it is largest where ``v`` is least
+    (``v = min(a, b)`` at the ends of the major axis), so ``dt = sqrt(8 chord / max(a, b))``
+    keeps every sagitta under the chord.
     """
     w = positive("width", width)
     h = positive("height", height)
     a, b = w / 2, h / 2
     c = chord_for(max(w, h), chord)
-    rho = min(a, b) ** 2 / max(a, b)  # smallest radius of curvature
-    # the eccentric-angle step near the sharp end spans an arc of about max(a, b)*dt,
-    # i.e. an angle of max/rho*dt on the osculating circle
-    n = max(8, arc_segments(rho, 2 * math.pi * max(a, b) / rho, c))
-    n = max(n, arc_segments(max(a, b), 2 * math.pi, c))
+    big = max(a, b)
+    dt = math.sqrt(8.0 * c / big) if c < big else math.pi / 4
+    n = max(8, math.ceil(2 * math.pi / dt))
     t = np.arange(n) * (2 * math.pi / n)
     geom = Polygon(np.column_stack([a * np.cos(t), b * np.sin(t)]))
     return to_profile(geom, f"ellipse {fmt(w)} x {fmt(h)}", units)
