@@ -284,7 +284,10 @@ def load_shapefile(path, units: str | None = None) -> ShapeFile:
         if geom.geom_type == "MultiPolygon":
             raise InputError(f"the parts make {len(geom.geoms)} separate pieces", where=where,
                              fix="a bar section must be one connected region: let parts overlap")
-        prof = to_profile(geom, "composition", u)
+        try:
+            prof = to_profile(geom, "composition", u)
+        except InputError as exc:
+            raise InputError(f"the combined parts: {exc.what}", where=where, fix=exc.fix) from None
     name = title or path.stem
     return ShapeFile(profile=Profile.from_loops(prof.loops, units=u, name=name),
                      title=title, settings=settings, path=path)
