@@ -9,6 +9,8 @@ import math
 
 import numpy as np
 import pytest
+from hypothesis import assume, given, settings
+from hypothesis import strategies as st
 from shapely.geometry import Point
 
 from soapfilm import analyse
@@ -35,7 +37,7 @@ from soapfilm.shapes import (
     union,
 )
 from soapfilm.shapes._geom import DEFAULT_CHORD_REL
-from soapfilm.shapes.splines import inv, iso14_spline
+from soapfilm.shapes.splines import inv, iso14_spline, iso14_table
 
 
 def perimeter(profile) -> float:
@@ -427,9 +429,6 @@ def test_impossible_dimensions_exit_2(func, kw, msg, tmp_path, capsys):
 
 
 # ---------------------------------------------------------------- property checks
-from hypothesis import assume, given, settings  # noqa: E402
-from hypothesis import strategies as st  # noqa: E402
-
 
 @settings(max_examples=40, deadline=None)
 @given(d=st.floats(8, 200), wr=st.floats(0.05, 0.6), tr=st.floats(0.02, 0.95),
@@ -465,8 +464,7 @@ def test_flatted_shaft_area_any_valid_size(d, hr, flats):
     assert p.area == pytest.approx(expect, abs=chord_area_tol(p, DEFAULT_CHORD_REL * d))
 
 
-@pytest.mark.parametrize("size", [s for s in __import__(
-    "soapfilm.shapes.splines", fromlist=["iso14_table"]).iso14_table()],
+@pytest.mark.parametrize("size", iso14_table(),
     ids=lambda s: f"{s.series}-{s.splines}x{s.minor:g}x{s.major:g}")
 def test_every_iso14_size_builds_with_the_closed_form_area(size):
     """All shipped ISO 14 sizes: area = pi r^2 + N (strip between minor and major circles)."""
