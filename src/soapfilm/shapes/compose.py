@@ -22,14 +22,10 @@ __all__ = ["placed", "union", "difference"]
 
 def placed(profile: Profile, dx: float = 0.0, dy: float = 0.0, rotate: float = 0.0) -> Profile:
     """Turn ``profile`` by ``rotate`` degrees about the origin, then move it by (dx, dy)."""
-    if rotate:
-        c, s = math.cos(math.radians(rotate)), math.sin(math.radians(rotate))
-        m = np.array([[c, -s], [s, c]])
-    else:
-        m = np.eye(2)
     if not rotate and not dx and not dy:
         return profile
-    return profile.transformed(m, (dx, dy))
+    c, s = math.cos(math.radians(rotate)), math.sin(math.radians(rotate))
+    return profile.transformed(np.array([[c, -s], [s, c]]), (dx, dy))
 
 
 def _units(parts) -> str:
