@@ -17,7 +17,7 @@ HELP = "compute J, peak shear per unit torque and related properties of a sectio
 
 def add_args(p: argparse.ArgumentParser) -> None:
     p.add_argument("input", metavar="INPUT",
-                   help="section file (point list .txt/.csv/.dat, DXF drawing .dxf)")
+                   help="section file (point list .txt/.csv/.dat, shape file .toml, DXF drawing .dxf)")
     p.add_argument("--units", choices=sorted(LENGTH_UNITS),
                    help="length unit of the input (default: the file's own, else mm; "
                         "overrides a DXF drawing's unit header)")
@@ -46,10 +46,10 @@ def add_accuracy_args(p: argparse.ArgumentParser) -> None:
                    help="element order: 1 linear, 2 quadratic triangles (default 1)")
 
 
-def accuracy_options(args) -> dict:
+def accuracy_options(args, mesh_size=None) -> dict:
     from ..adapt import DEFAULT_TOL
 
-    if args.tol is None and args.mesh_size is not None:
+    if args.tol is None and (args.mesh_size is not None or mesh_size is not None):
         return {"order": args.order}
     return {
         "tol": DEFAULT_TOL if args.tol is None else args.tol,
@@ -97,7 +97,13 @@ def run(args) -> int:
     if args.json and args.json != "-":
         check_writable(args.json, "--json")
     profile = read_section(args.input, args.units, **drawing_options(args))
-    result = analyse(profile, mesh_size=args.mesh_size, **accuracy_options(args))
+    # shape files (.toml) may carry [mesh] size and [solve] method; the command line wins
+    from ..readers.shapefile import settings_for
+
+    opts = settings_for(args.input)
+    mesh_size = args.mesh_size if args.mesh_size is not None else opts.get("mesh_size")
+    result = analyse(profile, mesh_size=mesh_size, method=opts.get("method", "auto"),
+                     **accuracy_options(args, mesh_size))
     con = console(args.quiet or args.json == "-")
     if con:
         print_summary(result, con)

@@ -1,0 +1,310 @@
+"""Shape files: a section described in TOML by kind and dimensions.
+
+A shape file has a title, a length unit, and either one ``[section]`` table
+or a list of ``[[part]]`` tables combined in order (``action = "add"`` or
+``"cut"``); optional ``[mesh]`` and ``[solve]`` tables hold settings.  Each
+section or part is one of
+
+* a parametric kind (``kind = "keyed_shaft"`` ... with its dimensions; see
+  ``soapfilm shapes``),
+* ``kind = "outline"`` with ``points = [[x, y], ...]`` and optional
+  ``holes = [[[x, y], ...], ...]``,
+* ``kind = "file"`` with ``file = "drawing.dxf"`` or a point list, relative
+  to the shape file,
+
+and may be placed with ``rotate`` (degrees, about the origin) and
+``position = [x, y]`` (applied after the rotation)::
+
+    title = "Feed roller shaft"
+    units = "mm"
+
+    [section]
+    kind = "keyed_shaft"
+    diameter = 40
+
+    [mesh]
+    size = 0.4
+"""
+
+from __future__ import annotations
+
+import math
+import tomllib
+from dataclasses import dataclass, field
+from pathlib import Path
+
+from shapely.geometry import Polygon
+
+from ..errors import InputError
+from ..profile import LENGTH_UNITS, Profile
+from ..shapes._geom import to_profile
+from ..shapes.compose import placed
+from ..shapes.registry import KINDS, build, suggest
+from . import read_section, register
+
+__all__ = ["ShapeFile", "load_shapefile", "read_shapefile", "settings_for",
+           "TOP_KEYS", "PART_KEYS", "MESH_KEYS", "SOLVE_KEYS", "SPECIAL_KINDS"]
+
+#: top-level keys and what they hold
+TOP_KEYS = {
+    "title": "free text naming the section (shown in reports)",
+    "units": f"length unit of every dimension: {', '.join(LENGTH_UNITS)} (default mm "
+             "or --units)",
+    "section": "table: the section, one kind with its dimensions",
+    "part": "array of tables [[part]]: parts combined in order instead of [section]",
+    "mesh": "table: mesh settings",
+    "solve": "table: solver settings",
+}
+#: keys any section or part may carry besides its kind's dimensions
+PART_KEYS = {
+    "kind": "parametric kind (see 'soapfilm shapes'), 'outline' or 'file'",
+    "action": "[[part]] only: 'add' (default) or 'cut' from the parts before",
+    "rotate": "turn the part by this many degrees counter-clockwise about the origin",
+    "position": "[x, y]: move the part by this much (after rotate)",
+}
+#: kinds that are not parametric
+SPECIAL_KINDS = {
+    "outline": {"points": "[[x, y], ...] the outside boundary, any orientation",
+                "holes": "[[[x, y], ...], ...] hole boundaries (optional)"},
+    "file": {"file": "point list (.txt, .csv) or DXF drawing, relative to this file; "
+                     "a drawing in other units is converted to the shape file's units"},
+}
+MESH_KEYS = {
+    "size": "element edge length in the file's unit (default: from the section)",
+    "chord": "chord tolerance for flattening arcs, a length (default 1e-5 x shape size)",
+}
+SOLVE_KEYS = {"method": "linear solver: 'auto' (default), 'direct' or 'amg'"}
+_METHODS = ("auto", "direct", "amg")
+
+
+@dataclass(frozen=True)
+class ShapeFile:
+    """A read shape file.
+
+    Attributes
+    ----------
+    profile : Profile
+    title : str
+    settings : dict
+        ``mesh_size``, ``chord`` (lengths in the profile's unit) and
+        ``method`` when the file gives them.
+    path : Path
+    """
+
+    profile: Profile
+    title: str = ""
+    settings: dict = field(default_factory=dict)
+    path: Path | None = None
+
+
+def _load_toml(path: Path) -> dict:
+    try:
+        with open(path, "rb") as fh:
+            return tomllib.load(fh)
+    except tomllib.TOMLDecodeError as exc:
+        raise InputError(f"not valid TOML: {exc}", where=str(path),
+                         fix="check quotes, brackets and '=' on that line") from None
+    except UnicodeDecodeError:
+        raise InputError("is not a text file", where=str(path)) from None
+
+
+def _unknown(key: str, allowed, where: str) -> InputError:
+    return InputError(f"unknown key {key!r}", where=where, fix=suggest(key, list(allowed)))
+
+
+def _table(doc: dict, key: str, allowed: dict, where: str) -> dict:
+    tab = doc.get(key, {})
+    if not isinstance(tab, dict):
+        raise InputError(f"{key!r} must be a table [{key}]", where=where)
+    for k in tab:
+        if k not in allowed:
+            raise _unknown(k, allowed, f"{where} [{key}]")
+    return tab
+
+
+def _positive_length(tab: dict, key: str, where: str) -> float | None:
+    if key not in tab:
+        return None
+    v = tab[key]
+    if isinstance(v, bool) or not isinstance(v, (int, float)) or not math.isfinite(v) or v <= 0:
+        raise InputError(f"{key} must be a positive number, got {v!r}", where=where,
+                         fix=f"write e.g. {key} = 0.5")
+    return float(v)
+
+
+def _settings(doc: dict, where: str) -> dict:
+    out: dict = {}
+    mesh = _table(doc, "mesh", MESH_KEYS, where)
+    solve = _table(doc, "solve", SOLVE_KEYS, where)
+    for key, name in (("size", "mesh_size"), ("chord", "chord")):
+        v = _positive_length(mesh, key, f"{where} [mesh]")
+        if v is not None:
+            out[name] = v
+    if "method" in solve:
+        m = solve["method"]
+        if m not in _METHODS:
+            raise InputError(f"method = {m!r} is not known", where=f"{where} [solve]",
+                             fix=suggest(m, _METHODS))
+        out["method"] = m
+    return out
+
+
+def _points(value, name: str, where: str) -> list[tuple[float, float]]:
+    ok = isinstance(value, list) and all(
+        isinstance(p, list) and len(p) == 2
+        and all(isinstance(c, (int, float)) and not isinstance(c, bool) for c in p)
+        for p in value)
+    if not ok:
+        raise InputError(f"{name} must be a list of [x, y] number pairs", where=where,
+                         fix=f"write e.g. {name} = [[0, 0], [10, 0], [10, 5]]")
+    return [(float(x), float(y)) for x, y in value]
+
+
+def _part(tab, where: str, base: Path, units: str, chord: float | None,
+          composite: bool) -> Profile:
+    if not isinstance(tab, dict):
+        raise InputError("must be a table of keys", where=where)
+    if "kind" not in tab:
+        raise InputError("kind is missing", where=where,
+                         fix="add e.g. kind = \"round\" ('soapfilm shapes' lists the kinds)")
+    kind = tab["kind"]
+    common = {"kind", "rotate", "position"} | ({"action"} if composite else set())
+    dims = {k: v for k, v in tab.items() if k not in common}
+    if kind in SPECIAL_KINDS:
+        for k in dims:
+            if k not in SPECIAL_KINDS[kind]:
+                raise _unknown(k, list(SPECIAL_KINDS[kind]) + sorted(common), where)
+        if kind == "outline":
+            if "points" not in dims:
+                raise InputError("points is missing for kind 'outline'", where=where,
+                                 fix="add points = [[x, y], ...]")
+            loops = [_points(dims["points"], "points", where)]
+            holes = dims.get("holes", [])
+            if not isinstance(holes, list):
+                raise InputError("holes must be a list of point lists", where=where)
+            loops += [_points(h, f"holes[{i + 1}]", where) for i, h in enumerate(holes)]
+            labels = [f"{where} points"] + [f"{where} holes[{i}]" for i in range(1, len(loops))]
+            prof = Profile.from_loops(loops, units=units, name="outline", labels=labels)
+        else:
+            ref = dims.get("file")
+            if not isinstance(ref, str) or not ref:
+                raise InputError("file is missing or not text for kind 'file'", where=where,
+                                 fix="add file = \"drawing.dxf\" (relative to this file)")
+            target = (base / ref) if not Path(ref).is_absolute() else Path(ref)
+            if target.suffix.lower() == ".toml":
+                raise InputError(f"a shape file cannot include another shape file ({ref})",
+                                 where=where, fix="refer to a point list or DXF drawing")
+            if not target.exists():
+                raise InputError(f"file {ref!r} not found (looked in {target.parent})",
+                                 where=where, fix="paths are relative to the shape file")
+            prof = read_section(target, units)
+            if prof.units != units:  # e.g. a DXF drawing with its own unit header
+                factor = LENGTH_UNITS[prof.units] / LENGTH_UNITS[units]
+                prof = prof.scaled(factor).with_units(units)
+    else:
+        if not isinstance(kind, str) or kind not in KINDS:
+            choices = list(KINDS) + list(SPECIAL_KINDS)
+            raise InputError(f"unknown kind {kind!r}", where=where,
+                             fix=suggest(kind, choices) + "; 'soapfilm shapes' lists them")
+        allowed = [p.name for p in KINDS[kind].params] + sorted(common)
+        for k in dims:
+            if k not in allowed:
+                raise InputError(f"unknown key {k!r} for kind {kind!r}", where=where,
+                                 fix=suggest(k, allowed))
+        prof = build(kind, dims, chord=chord, units=units, where=where)
+    rot = tab.get("rotate", 0.0)
+    if isinstance(rot, bool) or not isinstance(rot, (int, float)) or not math.isfinite(rot):
+        raise InputError(f"rotate must be an angle in degrees, got {rot!r}", where=where)
+    pos = tab.get("position", [0.0, 0.0])
+    if not (isinstance(pos, list) and len(pos) == 2 and all(
+            isinstance(c, (int, float)) and not isinstance(c, bool) for c in pos)):
+        raise InputError(f"position must be [x, y], got {pos!r}", where=where,
+                         fix="write e.g. position = [0, 12.5]")
+    return placed(prof, float(pos[0]), float(pos[1]), float(rot))
+
+
+def load_shapefile(path, units: str | None = None) -> ShapeFile:
+    """Read a shape file into a :class:`ShapeFile` (profile, title, settings).
+
+    Parameters
+    ----------
+    path : path-like
+    units : str, optional
+        Length unit to assume when the file has no ``units`` key (default mm).
+    """
+    path = Path(path)
+    where = str(path)
+    doc = _load_toml(path)
+    if "segment" in doc:
+        raise InputError("is a shaft file (it has [[segment]] tables), not a section",
+                         where=where, fix=f"run 'soapfilm shaft {path}'")
+    for k in doc:
+        if k not in TOP_KEYS:
+            raise _unknown(k, TOP_KEYS, f"{where} (top level)")
+    title = doc.get("title", "")
+    if not isinstance(title, str):
+        raise InputError(f"title must be text, got {title!r}", where=where,
+                         fix='write title = "..."')
+    file_units = doc.get("units")
+    if file_units is not None and file_units not in LENGTH_UNITS:
+        raise InputError(f"unknown length unit {file_units!r}", where=f"{where} units",
+                         fix=suggest(file_units, LENGTH_UNITS))
+    u = file_units or units or "mm"
+    if units is not None and u not in LENGTH_UNITS:
+        raise InputError(f"unknown length unit {units!r}", where="--units",
+                         fix=f"use one of {', '.join(LENGTH_UNITS)}")
+    settings = _settings(doc, where)
+    chord = settings.get("chord")
+    has_section, has_parts = "section" in doc, "part" in doc
+    if has_section == has_parts:
+        raise InputError("give either one [section] table or a list of [[part]] tables"
+                         if has_section else "no [section] or [[part]] table", where=where,
+                         fix="describe the section, e.g. [section] kind = \"round\" diameter = 40")
+    base = path.parent
+    if has_section:
+        if not isinstance(doc["section"], dict):
+            raise InputError("section must be a table [section]", where=where)
+        prof = _part(doc["section"], f"{where} [section]", base, u, chord, composite=False)
+    else:
+        parts = doc["part"]
+        if not isinstance(parts, list) or not parts:
+            raise InputError("part must be a list of [[part]] tables", where=where)
+        geom: Polygon | None = None
+        for i, tab in enumerate(parts, start=1):
+            at = f"{where} [[part]] {i}"
+            action = tab.get("action", "add") if isinstance(tab, dict) else "add"
+            if action not in ("add", "cut"):
+                raise InputError(f"action = {action!r} is not known", where=at,
+                                 fix=suggest(action, ("add", "cut")))
+            if i == 1 and action == "cut":
+                raise InputError("the first part cannot be a cut", where=at,
+                                 fix="start with the part the others are added to or cut from")
+            poly = _part(tab, at, base, u, chord, composite=True).polygon
+            geom = poly if geom is None else (
+                geom.union(poly) if action == "add" else geom.difference(poly))
+        if geom.is_empty:
+            raise InputError("the cuts remove the whole section", where=where)
+        if geom.geom_type == "MultiPolygon":
+            raise InputError(f"the parts make {len(geom.geoms)} separate pieces", where=where,
+                             fix="a bar section must be one connected region: let parts overlap")
+        try:
+            prof = to_profile(geom, "composition", u)
+        except InputError as exc:
+            raise InputError(f"the combined parts: {exc.what}", where=where, fix=exc.fix) from None
+    name = title or path.stem
+    return ShapeFile(profile=Profile.from_loops(prof.loops, units=u, name=name),
+                     title=title, settings=settings, path=path)
+
+
+@register(".toml")
+def read_shapefile(path: Path, units: str | None = None) -> Profile:
+    """Reader for ``.toml`` shape files (the profile only; see :func:`load_shapefile`)."""
+    return load_shapefile(path, units).profile
+
+
+def settings_for(path) -> dict:
+    """[mesh] and [solve] settings of a shape file; ``{}`` for any other input."""
+    path = Path(path)
+    if path.suffix.lower() != ".toml" or not path.is_file():
+        return {}
+    return _settings(_load_toml(path), str(path))

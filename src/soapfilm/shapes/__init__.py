@@ -1,0 +1,50 @@
+"""Parametric section generators, by family, and their registry.
+
+Every generator is a pure function of its dimensions returning a validated
+:class:`~soapfilm.profile.Profile`; impossible dimensions raise
+:class:`~soapfilm.errors.InputError` naming the parameter and the fix.
+Curves are flattened to polylines with a chord tolerance (keyword ``chord``,
+a length; default ``1e-5`` times the shape's size, which keeps the geometric
+error in J below 1e-4: see :mod:`soapfilm.shapes._geom`).
+
+>>> from soapfilm.shapes import keyed_shaft
+>>> p = keyed_shaft(40)            # DIN 6885-1 key 12 x 8, t1 = 5
+>>> round(p.area, 1)
+1200.3
+"""
+
+from ._geom import DEFAULT_CHORD_REL
+from .basic import box_tube, ellipse, rectangle, regular_polygon, round_bar, tube
+from .compose import difference, placed, union
+from .open_sections import angle, channel, i_section, tee
+from .registry import KINDS, Kind, Param, build
+from .shafts import ParallelKey, flatted_shaft, keyed_shaft, parallel_key
+from .splines import involute_spline, iso14_spline, straight_spline
+
+__all__ = [
+    "DEFAULT_CHORD_REL",
+    "KINDS",
+    "Kind",
+    "Param",
+    "ParallelKey",
+    "angle",
+    "box_tube",
+    "build",
+    "channel",
+    "difference",
+    "ellipse",
+    "flatted_shaft",
+    "i_section",
+    "involute_spline",
+    "iso14_spline",
+    "keyed_shaft",
+    "parallel_key",
+    "placed",
+    "rectangle",
+    "regular_polygon",
+    "round_bar",
+    "straight_spline",
+    "tee",
+    "tube",
+    "union",
+]

@@ -1,0 +1,64 @@
+"""Composition: union and difference of sections, and placing a part.
+
+All functions take and return validated :class:`~soapfilm.profile.Profile`
+objects (no mutation).  Example: a hollow splined shaft is
+``difference(involute_spline(...), round_bar(12))``; a keyway in a D shaft is
+``difference(flatted_shaft(...), placed(rectangle(8, 10), dy=20))``.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+from shapely.ops import unary_union
+
+from ..errors import InputError
+from ..profile import Profile
+from ._geom import to_profile
+
+__all__ = ["placed", "union", "difference"]
+
+
+def placed(profile: Profile, dx: float = 0.0, dy: float = 0.0, rotate: float = 0.0) -> Profile:
+    """Turn ``profile`` by ``rotate`` degrees about the origin, then move it by (dx, dy)."""
+    if not rotate and not dx and not dy:
+        return profile
+    c, s = math.cos(math.radians(rotate)), math.sin(math.radians(rotate))
+    return profile.transformed(np.array([[c, -s], [s, c]]), (dx, dy))
+
+
+def _units(parts) -> str:
+    units = {p.units for p in parts}
+    if len(units) > 1:
+        raise InputError(f"parts are in different length units {sorted(units)}",
+                         fix="give all parts in one unit")
+    return units.pop()
+
+
+def union(*parts: Profile, name: str = "") -> Profile:
+    """The region covered by any of the parts (must come out as one piece)."""
+    if not parts:
+        raise InputError("union of nothing", fix="give at least one part")
+    geom = unary_union([p.polygon for p in parts])
+    if geom.geom_type == "MultiPolygon":
+        raise InputError(f"the parts do not touch: their union falls apart into "
+                         f"{len(geom.geoms)} pieces", fix="move the parts so that they overlap")
+    return to_profile(geom, name or " + ".join(p.name for p in parts), _units(parts))
+
+
+def difference(base: Profile, *cuts: Profile, name: str = "") -> Profile:
+    """``base`` with every cut removed (must leave one connected piece)."""
+    units = _units((base, *cuts))
+    geom = base.polygon
+    if cuts:
+        geom = geom.difference(unary_union([c.polygon for c in cuts]))
+    if geom.is_empty:
+        raise InputError("the cuts remove the whole section", fix="check the cut sizes")
+    if geom.geom_type == "MultiPolygon":
+        span = max(geom.bounds[2] - geom.bounds[0], geom.bounds[3] - geom.bounds[1])
+        real = [g for g in geom.geoms if g.area > 1e-12 * span * span]
+        if len(real) > 1:
+            raise InputError(f"the cuts split the section into {len(real)} pieces",
+                             fix="a bar section must stay one connected region")
+    return to_profile(geom, name or " - ".join([base.name, *(c.name for c in cuts)]), units)
