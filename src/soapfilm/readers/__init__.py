@@ -58,4 +58,4 @@ def read_section(path, units: str | None = None) -> Profile:
 
 
 # readers register on import
-from . import pointlist  # noqa: E402,F401
+from . import meshfile, pointlist  # noqa: E402,F401  (meshfile: triangle meshes via meshio)
