@@ -18,7 +18,7 @@ from ..errors import SoapfilmError
 __all__ = ["main", "SUBCOMMANDS"]
 
 #: subcommand modules, in the order ``--help`` lists them
-SUBCOMMANDS = ["solve"]
+SUBCOMMANDS = ["solve", "show"]
 
 
 class _Parser(argparse.ArgumentParser):
