@@ -81,12 +81,29 @@ def _triangulation(p, t):
 
 
 # ------------------------------------------------------------------- helpers
+def _fit_size(profile: Profile, colorbar: bool) -> tuple[float, float]:
+    """Figure size whose plot area follows the section's height/width ratio.
+
+    The width is fixed; the height is the plot width times the section's
+    aspect ratio plus room for the title and the axis labels, so that the
+    map fills the frame and the colour bar is as tall as the map.
+    """
+    lo, hi = profile.outer.min(axis=0), profile.outer.max(axis=0)
+    w, h = float(hi[0] - lo[0]), float(hi[1] - lo[1])
+    aspect = (h + 0.1 * max(w, h)) / (w + 0.1 * max(w, h))
+    plot_w = _SIZE_2D[0] - (1.75 if colorbar else 0.9)
+    height = plot_w * aspect + 1.35
+    return _SIZE_2D[0], float(min(max(height, 3.4), 7.6))
+
+
 def _new_axes(ax, size=_SIZE_2D, projection=None):
     if ax is not None:
         return ax
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
     from matplotlib.figure import Figure
 
     fig = Figure(figsize=size, dpi=_DPI, layout="constrained")
+    FigureCanvasAgg(fig)
     return fig.add_subplot(projection=projection)
 
 
@@ -111,7 +128,9 @@ def _finish_axes(ax, profile: Profile, title: str):
 def _colorbar(ax, mappable, label: str):
     from matplotlib.ticker import ScalarFormatter
 
-    cb = ax.figure.colorbar(mappable, ax=ax, shrink=0.9, pad=0.02)
+    # the bar sits in an inset of the map's own box, so it is exactly as tall as the map
+    cax = ax.inset_axes([1.035, 0.0, 0.045, 1.0])
+    cb = ax.figure.colorbar(mappable, cax=cax)
     fmt = ScalarFormatter(useMathText=True)
     fmt.set_powerlimits((-2, 4))
     cb.formatter = fmt
@@ -162,7 +181,7 @@ def draw_section(profile: Profile, mesh=None, ax=None):
     from matplotlib.patches import PathPatch
     from matplotlib.path import Path as MplPath
 
-    ax = _new_axes(ax)
+    ax = _new_axes(ax, _fit_size(profile, colorbar=False))
     verts, codes = [], []
     for loop in profile.loops:
         verts.extend(loop.tolist() + [loop[0].tolist()])
@@ -221,7 +240,7 @@ def plot_shear(result, ax=None, torque: float | None = None, stress_unit: str = 
     matplotlib.axes.Axes
     """
     scale = shear_scale(result.units, torque, stress_unit)
-    ax = _new_axes(ax)
+    ax = _new_axes(ax, _fit_size(result.profile, colorbar=True))
     mesh, profile = result.mesh, result.profile
     t = _corner_triangles(mesh)
     tri = _triangulation(mesh.p, t)
@@ -284,7 +303,7 @@ def plot_warping(result, ax=None, show_mesh: bool = False):
     """
     from matplotlib.colors import TwoSlopeNorm
 
-    ax = _new_axes(ax)
+    ax = _new_axes(ax, _fit_size(result.profile, colorbar=True))
     mesh, profile = result.mesh, result.profile
     t = _corner_triangles(mesh)
     tri = _triangulation(mesh.p, t)
@@ -355,10 +374,6 @@ def figure_format(path) -> str:
 def figure_bytes(fig_or_ax, fmt: str = "png", dpi: int = _DPI) -> bytes:
     """Render a figure (or the figure of an Axes) to bytes."""
     fig = getattr(fig_or_ax, "figure", fig_or_ax)
-    if fig.canvas is None or not hasattr(fig.canvas, "print_figure"):  # pragma: no cover
-        from matplotlib.backends.backend_agg import FigureCanvasAgg
-
-        FigureCanvasAgg(fig)
     buf = io.BytesIO()
     meta = {"png": {"Software": "soapfilm"}, "svg": {"Date": None}, "pdf": {"Creator": "soapfilm"}}
     fig.savefig(buf, format=fmt, dpi=dpi, metadata=meta.get(fmt), facecolor="white")

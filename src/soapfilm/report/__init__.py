@@ -116,7 +116,7 @@ def _results_table(result, torque, stress_unit) -> str:
             continue
         rows.append(f"<tr><td>Estimated relative error: {html.escape(k.replace('_', ' '))}"
                     f'</td><td class="num">{v:.1e}</td><td class="unit">-</td></tr>')
-    head = "<thead><tr><th>quantity</th><th class="num">value</th><th>unit</th></tr></thead>"
+    head = '<thead><tr><th>quantity</th><th class="num">value</th><th>unit</th></tr></thead>'
     return f"<table>{head}<tbody>{''.join(rows)}</tbody></table>"
 
 
