@@ -47,12 +47,12 @@ def box_tube() -> Profile:
                                [(4, 4), (36, 4), (36, 21), (4, 21)]], name="box tube 40x25x4")
 
 
-@functools.lru_cache(maxsize=None)
+@functools.cache
 def rect_result():
     return analyse(rectangle(), mesh_size=0.4)
 
 
-@functools.lru_cache(maxsize=None)
+@functools.cache
 def tube_result():
     return analyse(box_tube(), mesh_size=0.8)
 

@@ -12,8 +12,8 @@ from html.parser import HTMLParser
 
 import numpy as np
 import pytest
-from _visual_sections import nonwhite_fraction, png_pixels, rect_result, tube_result
 
+from _visual_sections import nonwhite_fraction, png_pixels, rect_result, tube_result
 from soapfilm import CAUTION
 from soapfilm.report import html_table, render_report
 

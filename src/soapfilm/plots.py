@@ -129,7 +129,7 @@ def _colorbar(ax, mappable, label: str):
     from matplotlib.ticker import ScalarFormatter
 
     # the bar sits in an inset of the map's own box, so it is exactly as tall as the map
-    cax = ax.inset_axes([1.035, 0.0, 0.045, 1.0])
+    cax = ax.inset_axes([1.035, 0.0, 0.045, 1.0], label="colorbar")
     cb = ax.figure.colorbar(mappable, cax=cax)
     fmt = ScalarFormatter(useMathText=True)
     fmt.set_powerlimits((-2, 4))
