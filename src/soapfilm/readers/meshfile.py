@@ -47,8 +47,9 @@ def _load(path: Path):
 
     try:
         return meshio.read(path)
-    except Exception as exc:  # meshio raises many types (ReadError, KeyError, ValueError...)
-        raise InputError(f"meshio could not read it: {exc}".rstrip(), where=str(path),
+    except (Exception, SystemExit) as exc:  # meshio raises many types, even SystemExit
+        text = str(exc) if not isinstance(exc, SystemExit) else "not a readable file"
+        raise InputError(f"meshio could not read it: {text}".rstrip(), where=str(path),
                          fix="check that it is a mesh file of the kind its suffix says") from None
 
 
