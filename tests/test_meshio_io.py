@@ -78,7 +78,8 @@ def test_rectangle_mesh_file_brackets_the_series(tmp_path):
 def test_hollow_mesh_file_finds_the_hole(tmp_path):
     """Hollow circle d20/d12 as a 256-gon pair: the hole loop is found, carries marker 2,
     its nodes lie on the hole polygon and it encloses the regular-polygon area
-    (n/2) r^2 sin(2 pi/n); J matches the outline solve (rtol 1e-10) and the tube formula J = pi (Ro^4 - Ri^4) / 2 (elementary torsion of circular tubes,
+    (n/2) r^2 sin(2 pi/n); J matches the outline solve (rtol 1e-10) and the tube formula
+    J = pi (Ro^4 - Ri^4) / 2 (elementary torsion of circular tubes,
     Timoshenko & Goodier 3rd ed. sec. 101) within 1e-3 (polygon and mesh error)."""
     prof = hollow_circle(10.0, 6.0, 256)
     outline = analyse(prof)
