@@ -29,6 +29,13 @@ def _has_colour(img, rgb, atol=0.03) -> bool:
     return bool(np.any(np.all(np.abs(img[..., :3] - rgb) < atol, axis=-1)))
 
 
+def _peak_label(ax) -> str:
+    (legend,) = ax.figure.legends
+    (text,) = legend.get_texts()
+    assert text.get_text().startswith("peak ")
+    return text.get_text()
+
+
 def _colorbar_axes(ax):
     bars = [a for a in ax.child_axes if a.get_label() == "colorbar"]
     assert len(bars) == 1, "one colour bar expected"
@@ -47,8 +54,7 @@ def test_shear_map_png_is_a_real_picture():
     cb = _colorbar_axes(ax)
     assert "1/mm³" in cb.get_ylabel()
     assert ax.get_aspect() == 1.0
-    texts = [t.get_text() for t in ax.texts]
-    assert any(t.startswith("peak ") and "1/mm³" in t for t in texts)
+    assert "1/mm³" in _peak_label(ax)
 
 
 def test_labels_are_not_clipped():
@@ -58,7 +64,8 @@ def test_labels_are_not_clipped():
     plots.figure_bytes(fig, "png")  # draws the figure
     renderer = fig.canvas.get_renderer()
     box = fig.bbox
-    items = [ax.title, ax.xaxis.label, ax.yaxis.label, _colorbar_axes(ax).yaxis.label, *ax.texts]
+    items = [ax.title, ax.xaxis.label, ax.yaxis.label, _colorbar_axes(ax).yaxis.label,
+             *fig.legends[0].get_texts()]
     for item in items:
         bb = item.get_window_extent(renderer)
         assert bb.x0 >= box.x0 - 1 and bb.x1 <= box.x1 + 1, item.get_text()
@@ -72,12 +79,11 @@ def test_peak_label_in_stress_units_with_a_torque():
     ax = plots.plot_shear(r, torque=120.0, stress_unit="MPa")
     assert "MPa" in _colorbar_axes(ax).get_ylabel()
     expected = r.max_shear_per_torque * 120.0 * 1000.0
-    label = next(t.get_text() for t in ax.texts if t.get_text().startswith("peak "))
-    assert float(label.split()[1]) == pytest.approx(expected, rel=5e-4, abs=0)
+    assert float(_peak_label(ax).split()[1]) == pytest.approx(expected, rel=5e-4, abs=0)
     # psi: 1 psi = 6894.757 Pa (NIST SP 811, appendix B)
     ax = plots.plot_shear(r, torque=120.0, stress_unit="psi")
-    label = next(t.get_text() for t in ax.texts if t.get_text().startswith("peak "))
-    assert float(label.split()[1]) == pytest.approx(expected * 1e6 / 6894.757, rel=5e-4, abs=0)
+    psi = float(_peak_label(ax).split()[1])
+    assert psi == pytest.approx(expected * 1e6 / 6894.757, rel=5e-4, abs=0)
 
 
 def test_bad_torque_is_an_input_error():
@@ -106,6 +112,24 @@ def test_shear_map_peak_matches_the_rectangle_series():
     _, tau_exact = rectangle_series(20.0, 10.0)
     mag = np.hypot(*plots.nodal_shear(r))
     assert mag.max() == pytest.approx(tau_exact, rel=0.02, abs=0)
+
+
+def test_wide_section_gets_its_colour_bar_underneath():
+    """A 100 x 4 strip: the bar lies under the map, labels stay inside the picture."""
+    r = analyse(Profile.from_loops([[(0, 0), (100, 0), (100, 4), (0, 4)]], name="strip"),
+                mesh_size=1.0)
+    ax = plots.plot_shear(r)
+    fig = ax.figure
+    plots.figure_bytes(fig, "png")
+    bars = [a for a in fig.axes if a is not ax]
+    assert len(bars) == 1
+    bar, box = bars[0].get_position(), ax.get_position()
+    assert bar.y1 < box.y0 and bar.width > 0.8 * box.width
+    renderer = fig.canvas.get_renderer()
+    for item in (ax.title, bars[0].xaxis.label, *fig.legends[0].get_texts()):
+        bb = item.get_window_extent(renderer)
+        assert fig.bbox.x0 - 1 <= bb.x0 and bb.x1 <= fig.bbox.x1 + 1
+        assert fig.bbox.y0 - 1 <= bb.y0 and bb.y1 <= fig.bbox.y1 + 1
 
 
 def test_warping_map_and_surface_and_section():

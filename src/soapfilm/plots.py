@@ -81,19 +81,29 @@ def _triangulation(p, t):
 
 
 # ------------------------------------------------------------------- helpers
-def _fit_size(profile: Profile, colorbar: bool) -> tuple[float, float]:
+#: width/height ratio above which the colour bar goes under the map
+_WIDE = 2.2
+
+
+def _is_wide(profile: Profile) -> bool:
+    lo, hi = profile.outer.min(axis=0), profile.outer.max(axis=0)
+    return float(hi[0] - lo[0]) > _WIDE * float(hi[1] - lo[1])
+
+
+def _fit_size(profile: Profile, colorbar: bool, legend: bool = False) -> tuple[float, float]:
     """Figure size whose plot area follows the section's height/width ratio.
 
     The width is fixed; the height is the plot width times the section's
-    aspect ratio plus room for the title and the axis labels, so that the
-    map fills the frame and the colour bar is as tall as the map.
+    aspect ratio plus room for the title, the axis labels, a colour bar under
+    wide sections and the peak legend, so that the map fills the frame.
     """
     lo, hi = profile.outer.min(axis=0), profile.outer.max(axis=0)
     w, h = float(hi[0] - lo[0]), float(hi[1] - lo[1])
     aspect = (h + 0.1 * max(w, h)) / (w + 0.1 * max(w, h))
-    plot_w = _SIZE_2D[0] - (1.75 if colorbar else 0.9)
-    height = plot_w * aspect + 1.35
-    return _SIZE_2D[0], float(min(max(height, 3.4), 7.6))
+    wide = colorbar and _is_wide(profile)
+    plot_w = _SIZE_2D[0] - (0.9 if wide or not colorbar else 1.75)
+    height = plot_w * aspect + 1.35 + (0.75 if wide else 0.0) + (0.3 if legend else 0.0)
+    return _SIZE_2D[0], float(min(max(height, 3.0), 7.6))
 
 
 def _new_axes(ax, size=_SIZE_2D, projection=None):
@@ -125,12 +135,14 @@ def _finish_axes(ax, profile: Profile, title: str):
     ax.set_title(title, fontsize=10)
 
 
-def _colorbar(ax, mappable, label: str):
+def _colorbar(ax, mappable, label: str, horizontal: bool = False):
     from matplotlib.ticker import ScalarFormatter
 
-    # the bar sits in an inset of the map's own box, so it is exactly as tall as the map
-    cax = ax.inset_axes([1.035, 0.0, 0.045, 1.0], label="colorbar")
-    cb = ax.figure.colorbar(mappable, cax=cax)
+    if horizontal:  # under a wide section: as wide as the map
+        cb = ax.figure.colorbar(mappable, ax=ax, location="bottom", aspect=45, pad=0.04)
+    else:  # in an inset of the map's own box, so it is exactly as tall as the map
+        cax = ax.inset_axes([1.035, 0.0, 0.045, 1.0], label="colorbar")
+        cb = ax.figure.colorbar(mappable, cax=cax)
     fmt = ScalarFormatter(useMathText=True)
     fmt.set_powerlimits((-2, 4))
     cb.formatter = fmt
@@ -240,7 +252,7 @@ def plot_shear(result, ax=None, torque: float | None = None, stress_unit: str = 
     matplotlib.axes.Axes
     """
     scale = shear_scale(result.units, torque, stress_unit)
-    ax = _new_axes(ax, _fit_size(result.profile, colorbar=True))
+    ax = _new_axes(ax, _fit_size(result.profile, colorbar=True, legend=True))
     mesh, profile = result.mesh, result.profile
     t = _corner_triangles(mesh)
     tri = _triangulation(mesh.p, t)
@@ -251,13 +263,15 @@ def plot_shear(result, ax=None, torque: float | None = None, stress_unit: str = 
     pc = ax.tripcolor(tri, mag, shading="gouraud", cmap="viridis", vmin=0.0, vmax=top,
                       rasterized=True, zorder=1)
     phi = np.asarray(result.fields.phi)
+    if _is_wide(profile) or _is_wide(profile.transformed([[0, 1], [1, 0]])):
+        levels = min(levels, 6)  # thin strips: fewer lines, or they hide the colours
     if np.ptp(phi) > 0 and levels > 0:
         ax.tricontour(tri, phi, levels=np.linspace(phi.min(), phi.max(), levels + 2)[1:-1],
                       colors="white", linewidths=0.6, alpha=0.85, zorder=2)
     if show_mesh:
         _mesh_overlay(ax, mesh.p, t, mesh.nelements)
     _outline(ax, profile)
-    _colorbar(ax, pc, scale.label())
+    _colorbar(ax, pc, scale.label(), horizontal=_is_wide(profile))
     _mark_peak(ax, result, peak, scale)
     nm = _section_name(profile)
     what = "shear stress" if torque is not None else "shear stress per unit torque"
@@ -267,25 +281,22 @@ def plot_shear(result, ax=None, torque: float | None = None, stress_unit: str = 
 
 
 def _mark_peak(ax, result, peak: float, scale: ShearScale):
+    """Red dot at the peak; its value and place in a legend under the figure.
+
+    A legend (rather than a label beside the dot) never covers the map or
+    the axis labels, whatever the shape of the section.
+    """
     px, py = result.peak_location
-    c = np.asarray(result.profile.outer).mean(axis=0)
-    d = np.array([c[0] - px, c[1] - py])
-    n = np.hypot(*d)
-    d = d / n if n > 0 else np.array([0.0, 1.0])
-    off = 38.0 * d
-    ax.plot([px], [py], marker="o", ms=7, mfc="#d62728", mec="white", mew=1.3, zorder=7)
-    ax.annotate(
-        f"peak {_fmt(peak)} {scale.unit}",
-        (px, py),
-        xytext=(off[0], off[1]),
-        textcoords="offset points",
-        ha="left" if d[0] > 0.2 else ("right" if d[0] < -0.2 else "center"),
-        va="bottom" if d[1] > 0.2 else ("top" if d[1] < -0.2 else "center"),
-        fontsize=8,
-        bbox={"boxstyle": "round,pad=0.25", "fc": "white", "ec": "#d62728", "alpha": 0.9},
-        arrowprops={"arrowstyle": "-", "color": "#d62728", "lw": 0.9},
-        zorder=8,
-    )
+    u = result.units
+    (dot,) = ax.plot([px], [py], ls="none", marker="o", ms=8, mfc="#d62728", mec="white",
+                     mew=1.4, zorder=7,
+                     label=f"peak {_fmt(peak)} {scale.unit} at ({px:.4g}, {py:.4g}) {u}")
+    fig = ax.figure
+    engine = fig.get_layout_engine()
+    if engine is not None and type(engine).__name__ == "ConstrainedLayoutEngine":
+        fig.legend(handles=[dot], loc="outside lower center", frameon=False, fontsize=9)
+    else:
+        ax.legend(handles=[dot], loc="best", fontsize=8, framealpha=0.9)
 
 
 def plot_warping(result, ax=None, show_mesh: bool = False):
@@ -320,7 +331,8 @@ def plot_warping(result, ax=None, show_mesh: bool = False):
         _mesh_overlay(ax, mesh.p, t, mesh.nelements)
     _outline(ax, profile)
     u = result.units
-    _colorbar(ax, pc, f"warping ω = w / θ [{u}²]  (θ: twist per {u}, rad)")
+    _colorbar(ax, pc, f"warping ω = w / θ [{u}²]  (θ: twist per {u}, rad)",
+              horizontal=_is_wide(profile))
     _finish_axes(ax, profile, f"{_section_name(profile)}: warping (axial displacement "
                               f"per unit twist rate)\nred: out of the page, blue: into it")
     return ax
@@ -345,13 +357,21 @@ def plot_stress_surface(result, ax=None):
     for loop in profile.loops:
         xy = np.vstack([loop, loop[:1]])
         ax.plot(xy[:, 0], xy[:, 1], 0.0, color="k", lw=0.8)
+    # holes: the flat lid at the hole's constant value (Prandtl's membrane analogy)
+    from mpl_toolkits.mplot3d.art3d import Poly3DCollection
+
+    hole_values = np.asarray(getattr(result.fields, "hole_values", ()), dtype=float)
+    for hole, c in zip(profile.holes, hole_values, strict=False):
+        lid = np.c_[hole, np.full(len(hole), c)]
+        ax.add_collection3d(Poly3DCollection([lid], facecolor="0.85", edgecolor="k",
+                                             linewidths=0.6, alpha=0.7))
     u = result.units
     ax.set_xlabel(f"x [{u}]")
     ax.set_ylabel(f"y [{u}]")
-    ax.set_zlabel(f"φ [{u}²]")
+    ax.set_zlabel(f"φ [{u}²]", labelpad=6)
     span = np.ptp(mesh.p[:, np.unique(t)], axis=1)
     top = float(phi.max()) or 1.0
-    ax.set_box_aspect((span[0], span[1], 0.45 * max(span)), zoom=1.1)
+    ax.set_box_aspect((span[0], span[1], 0.45 * max(span)), zoom=0.95)
     ax.set_zlim(0.0, 1.05 * top)
     ax.view_init(elev=28, azim=-60)
     ax.set_title(f"{_section_name(profile)}: stress function φ per unit Gθ\n"
