@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import io
+import os
 
 import meshio
 import pytest
@@ -121,6 +122,9 @@ def test_solve_refuses_to_overwrite_the_input_or_a_folder(tmp_path, box, capsys)
     (tmp_path / "pics.png").mkdir()
     assert main(["solve", str(box), "--plot", str(tmp_path / "pics.png")]) == 2
     assert "is a folder" in capsys.readouterr().err
+    if os.path.isdir("/proc"):  # a folder nobody can create files in, even root
+        assert main(["solve", str(box), "--report", "/proc/r.html"]) == 2
+        assert "cannot write in folder '/proc'" in capsys.readouterr().err
 
 
 def test_progress_is_silent_off_a_terminal():

@@ -5,6 +5,7 @@ from __future__ import annotations
 import base64
 import dataclasses
 import html
+import json
 import os
 import shutil
 import subprocess
@@ -150,3 +151,13 @@ def test_report_renders_in_headless_chromium(tmp_path, report_text):
     assert run.returncode == 0, run.stderr[-2000:]
     data = pdf.read_bytes()
     assert data[:5] == b"%PDF-" and data.count(b"/Type /Page\n") + data.count(b"/Type/Page") >= 1
+
+
+def test_notebook_html_and_json_ready_dict():
+    r = rect_result()
+    c = _parse(r._repr_html_())
+    assert not c.errors and not c.stack
+    assert CAUTION in " ".join(c.text)
+    d = r.to_dict(include_mesh=False)
+    assert json.loads(json.dumps(d, allow_nan=False)) == d
+    assert d["max_shear_per_torque"] == r.max_shear_per_torque

@@ -21,6 +21,8 @@ triangles (``triangle`` or, for quadratic meshes, ``triangle6``).
 
 from __future__ import annotations
 
+import contextlib
+import io
 import logging
 import os
 import tempfile
@@ -135,11 +137,15 @@ def write_mesh(result, path, torque: float | None = None, stress_unit: str = "MP
     try:
         import meshio
 
+        chatter = io.StringIO()  # meshio prints notes such as "dropping vector data"
         try:
-            meshio.write(tmp, m, file_format=fmt, **kwargs)
+            with contextlib.redirect_stdout(chatter), contextlib.redirect_stderr(chatter):
+                meshio.write(tmp, m, file_format=fmt, **kwargs)
         except Exception as exc:  # meshio raises assorted types for unsupported data
             raise InputError(f"could not write the mesh as {fmt}: {exc}",
                              where=f"--mesh-out {path}", fix="use .vtu, .xdmf or .msh") from exc
+        if chatter.getvalue().strip():
+            log.info("meshio: %s", chatter.getvalue().strip())
         _match_umask(tmp)
         os.replace(tmp, path)
     finally:

@@ -22,6 +22,13 @@ def check_writable(path: str | os.PathLike, option: str) -> Path:
                          fix="create the folder or choose another path")
     if p.is_dir():
         raise InputError("is a folder", where=f"{option} {p}", fix="give a file name")
+    try:  # the only sure test: make (and remove) a file there, as write_atomic will
+        fd, tmp = tempfile.mkstemp(prefix=f".{p.name}.", suffix=".check", dir=parent)
+        os.close(fd)
+        os.unlink(tmp)
+    except OSError as exc:
+        raise InputError(f"cannot write in folder {str(parent)!r} ({exc.strerror})",
+                         where=f"{option} {p}", fix="choose a folder you can write to") from None
     return p
 
 

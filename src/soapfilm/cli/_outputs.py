@@ -116,11 +116,15 @@ def write_outputs(args, result, inputs: dict | None = None) -> list[Path]:
         pending.append((args.report, render_report(result, inputs=inputs, torque=torque,
                                                    stress_unit=unit)))
     written = []
-    if args.mesh_out:
-        from ..export import write_mesh
+    try:
+        if args.mesh_out:
+            from ..export import write_mesh
 
-        written.append(write_mesh(result, args.mesh_out, torque=torque, stress_unit=unit))
-    for path, data in pending:
-        write_atomic(path, data)
-        written.append(Path(path))
+            written.append(write_mesh(result, args.mesh_out, torque=torque, stress_unit=unit))
+        for path, data in pending:
+            write_atomic(path, data)
+            written.append(Path(path))
+    except OSError as exc:  # disk full, folder removed meanwhile...
+        raise InputError(f"could not write {exc.filename or 'a file'}: {exc.strerror}",
+                         fix="check the folder and the free space") from None
     return written

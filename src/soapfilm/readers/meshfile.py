@@ -20,6 +20,8 @@ from ``--units`` (default mm).
 
 from __future__ import annotations
 
+import contextlib
+import io
 import logging
 from pathlib import Path
 
@@ -45,12 +47,17 @@ MESH_SUFFIXES = (
 def _load(path: Path):
     import meshio
 
+    chatter = io.StringIO()  # meshio prints its own warnings and errors: keep them for --debug
     try:
-        return meshio.read(path)
+        with contextlib.redirect_stdout(chatter), contextlib.redirect_stderr(chatter):
+            return meshio.read(path)
     except (Exception, SystemExit) as exc:  # meshio raises many types, even SystemExit
         text = str(exc) if not isinstance(exc, SystemExit) else "not a readable file"
         raise InputError(f"meshio could not read it: {text}".rstrip(), where=str(path),
                          fix="check that it is a mesh file of the kind its suffix says") from None
+    finally:
+        if chatter.getvalue().strip():
+            log.debug("meshio: %s", chatter.getvalue().strip())
 
 
 def _triangles(m, where: str) -> np.ndarray:
