@@ -153,7 +153,10 @@ def _colorbar(ax, mappable, label: str, horizontal: bool = False):
 
 def _mesh_overlay(ax, p, t, n_elements: int):
     lw = 0.35 if n_elements < 3000 else 0.15
-    ax.triplot(_triangulation(p, t), color="0.15", lw=lw, alpha=0.55, zorder=3)
+    lines = ax.triplot(_triangulation(p, t), color="0.15", lw=lw, alpha=0.55, zorder=3)
+    if n_elements >= 3000:  # keep SVG/PDF small: fine meshes go in as an image
+        for artist in lines:
+            artist.set_rasterized(True)
 
 
 _SUPERSCRIPT = str.maketrans("-0123456789", "⁻⁰¹²³⁴⁵⁶⁷⁸⁹")
