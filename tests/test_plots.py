@@ -184,3 +184,23 @@ def test_quadratic_mesh_is_drawn_on_its_corner_nodes():
                plots.plot_stress_surface(r6), plots.draw_section(r6.profile, mesh6)):
         assert nonwhite_fraction(png_pixels(plots.figure_bytes(ax, "png"))) > 0.15
     assert math.isfinite(tau6.max())
+
+
+@pytest.mark.parametrize("fmt", ["png", "svg", "pdf"])
+def test_pictures_are_reproducible(fmt):
+    """Same result, same bytes: no time stamps or random ids in the files."""
+    r = rect_result()
+    a = plots.figure_bytes(plots.plot_shear(r), fmt)
+    b = plots.figure_bytes(plots.plot_shear(r), fmt)
+    assert a == b
+
+
+def test_stress_surface_labels_are_inside_the_picture():
+    ax = plots.plot_stress_surface(tube_result())
+    fig = ax.figure
+    plots.figure_bytes(fig, "png")
+    renderer = fig.canvas.get_renderer()
+    for item in (ax.title, ax.xaxis.label, ax.yaxis.label, ax.zaxis.label):
+        bb = item.get_window_extent(renderer)
+        assert fig.bbox.x0 - 1 <= bb.x0 and bb.x1 <= fig.bbox.x1 + 1, item.get_text()
+        assert fig.bbox.y0 - 1 <= bb.y0 and bb.y1 <= fig.bbox.y1 + 1, item.get_text()

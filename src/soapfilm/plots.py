@@ -396,10 +396,15 @@ def figure_format(path) -> str:
 
 def figure_bytes(fig_or_ax, fmt: str = "png", dpi: int = _DPI) -> bytes:
     """Render a figure (or the figure of an Axes) to bytes."""
+    import matplotlib
+
     fig = getattr(fig_or_ax, "figure", fig_or_ax)
     buf = io.BytesIO()
-    meta = {"png": {"Software": "soapfilm"}, "svg": {"Date": None}, "pdf": {"Creator": "soapfilm"}}
-    fig.savefig(buf, format=fmt, dpi=dpi, metadata=meta.get(fmt), facecolor="white")
+    # no dates, fixed SVG ids: the same result gives the same bytes (reproducible files)
+    meta = {"png": {"Software": "soapfilm"}, "svg": {"Date": None},
+            "pdf": {"Creator": "soapfilm", "CreationDate": None}}
+    with matplotlib.rc_context({"svg.hashsalt": "soapfilm"}):
+        fig.savefig(buf, format=fmt, dpi=dpi, metadata=meta.get(fmt), facecolor="white")
     return buf.getvalue()
 
 
