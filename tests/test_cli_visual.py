@@ -96,6 +96,7 @@ def test_json_to_stdout_stays_clean_with_outputs(tmp_path, box, capsys):
 @pytest.mark.parametrize("args, message", [
     (["--plot", "{tmp}/ok.png", "--report", "{tmp}/missing/r.html"], "does not exist"),
     (["--plot", "{tmp}/ok.png", "--plot-warping", "{tmp}/ok.png"], "is also given to --plot"),
+    (["--json", "{tmp}/r.html", "--report", "{tmp}/r.html"], "is also given to --json"),
     (["--plot", "{tmp}/ok.gif"], "picture format"),
     (["--report", "{tmp}/r.pdf"], "must end in .html"),
     (["--mesh-out", "{tmp}/m.xyz"], "cannot tell the mesh format"),

@@ -51,6 +51,9 @@ def check_outputs(args) -> None:
     if args.torque is not None:
         shear_scale("mm", args.torque, args.stress_unit)  # validates the numbers
     seen: dict[str, str] = {}
+    json_out = getattr(args, "json", None)
+    if json_out and json_out != "-":
+        seen[_same_file_key(json_out)] = "--json"
     src = _same_file_key(args.input)
     for option, dest in _FILE_OPTIONS:
         out = getattr(args, dest, None)

@@ -69,7 +69,10 @@ def run(args) -> int:
             con.print(_outputs.torque_line(result, args))
     if args.json:
         write_json(args.json, result.to_dict())
-    inputs = {"input file": args.input, "mesh size": args.mesh_size or "default"}  # visual
+    inputs = {"input file": args.input,  # visual: rows for the report
+              "mesh": ("as given in the file" if is_mesh_file(args.input)
+                       else f"element size {args.mesh_size:g} {profile.units}" if args.mesh_size
+                       else "default size (from the section)")}
     for path in _outputs.write_outputs(args, result, inputs=inputs):  # visual
         if con:
             con.print(f"[dim]wrote {path}[/]")
