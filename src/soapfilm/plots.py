@@ -220,10 +220,12 @@ def draw_section(profile: Profile, mesh=None, ax=None):
     ]
     if mesh is not None:
         lines.append(f"mesh: {mesh.nelements} triangles, {mesh.nnodes} nodes")
+    from shapely.geometry import Polygon
+
     for k, hole in enumerate(profile.holes, start=1):
-        c = hole.mean(axis=0)
-        ax.annotate(f"hole {k}", c, ha="center", va="center", fontsize=7, color="#7a1f1f",
-                    zorder=6)
+        c = Polygon(hole).representative_point()  # inside the hole even when not convex
+        ax.annotate(f"hole {k}", (c.x, c.y), ha="center", va="center", fontsize=7,
+                    color="#7a1f1f", zorder=6)
     _finish_axes(ax, profile, "\n".join(lines))
     return ax
 
