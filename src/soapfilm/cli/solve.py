@@ -7,8 +7,10 @@ import argparse
 from ..errors import InputError
 from ..profile import LENGTH_UNITS
 from ..readers import read_section
+from ..readers.meshfile import is_mesh_file, read_mesh_file  # visual: mesh-file input
 from ..result import CAUTION, TorsionResult
-from ..solve import analyse
+from ..solve import analyse, result_from_mesh
+from . import _outputs  # visual: pictures, report, mesh export
 from ._io import check_writable, console, write_json
 
 NAME = "solve"
@@ -17,7 +19,8 @@ HELP = "compute J, peak shear per unit torque and related properties of a sectio
 
 def add_args(p: argparse.ArgumentParser) -> None:
     p.add_argument("input", metavar="INPUT",
-                   help="section file (point list .txt/.csv/.dat, shape file .toml, DXF drawing .dxf)")
+                   help="section file: point list .txt/.csv/.dat, shape file .toml, DXF drawing "
+                        ".dxf, or a triangle mesh file (.vtu, .msh, ...: solved on that mesh as given)")
     p.add_argument("--units", choices=sorted(LENGTH_UNITS),
                    help="length unit of the input (default: the file's own, else mm; "
                         "overrides a DXF drawing's unit header)")
@@ -27,6 +30,7 @@ def add_args(p: argparse.ArgumentParser) -> None:
     p.add_argument("--quiet", action="store_true", help="no terminal table")
     add_drawing_args(p)
     add_accuracy_args(p)
+    _outputs.add_output_args(p)  # visual: --plot, --report, --mesh-out, --torque ...
 
 
 # --- accuracy options (adaptive refinement, element order) ---------------------
@@ -96,17 +100,35 @@ def run(args) -> int:
         raise InputError(f"must be a positive length, got {args.mesh_size}", where="--mesh-size")
     if args.json and args.json != "-":
         check_writable(args.json, "--json")
-    profile = read_section(args.input, args.units, **drawing_options(args))
-    # shape files (.toml) may carry [mesh] size and [solve] method; the command line wins
-    from ..readers.shapefile import settings_for
+    _outputs.check_outputs(args)  # visual: every output path checked before solving
+    # --- visual: a mesh file is solved on its own mesh ---
+    if is_mesh_file(args.input):
+        if args.mesh_size is not None:
+            raise InputError("does not apply to a mesh file, which is solved as given",
+                             where="--mesh-size", fix="drop --mesh-size or give the outline")
+        profile, mesh = read_mesh_file(args.input, args.units)
+        result = result_from_mesh(profile, mesh, order=args.order)
+    else:  # --- end visual ---
+        profile = read_section(args.input, args.units, **drawing_options(args))
+        # shape files (.toml) may carry [mesh] size and [solve] method; the command line wins
+        from ..readers.shapefile import settings_for
 
-    opts = settings_for(args.input)
-    mesh_size = args.mesh_size if args.mesh_size is not None else opts.get("mesh_size")
-    result = analyse(profile, mesh_size=mesh_size, method=opts.get("method", "auto"),
-                     **accuracy_options(args, mesh_size))
+        opts = settings_for(args.input)
+        mesh_size = args.mesh_size if args.mesh_size is not None else opts.get("mesh_size")
+        result = analyse(profile, mesh_size=mesh_size, method=opts.get("method", "auto"),
+                         **accuracy_options(args, mesh_size))
     con = console(args.quiet or args.json == "-")
     if con:
         print_summary(result, con)
+        if _outputs.torque_line(result, args):  # visual
+            con.print(_outputs.torque_line(result, args))
     if args.json:
         write_json(args.json, result.to_dict())
+    inputs = {"input file": args.input,  # visual: rows for the report
+              "mesh": ("as given in the file" if is_mesh_file(args.input)
+                       else f"element size {args.mesh_size:g} {profile.units}" if args.mesh_size
+                       else "default size (from the section)")}
+    for path in _outputs.write_outputs(args, result, inputs=inputs):  # visual
+        if con:
+            con.print(f"[dim]wrote {path}[/]")
     return 0

@@ -73,4 +73,4 @@ def read_section(path, units: str | None = None, **options) -> Profile:
 
 
 # readers register on import
-from . import dxf, pointlist, shapefile  # noqa: E402,F401
+from . import dxf, meshfile, pointlist, shapefile  # noqa: E402,F401

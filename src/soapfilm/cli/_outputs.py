@@ -1,0 +1,133 @@
+"""Output options of ``soapfilm solve``: pictures, HTML report, mesh file.
+
+Kept apart from ``solve.py`` so that the options are added by three calls:
+:func:`add_output_args` (parser), :func:`check_outputs` (before any work:
+suffixes known, folders exist, no two outputs or an output and the input the
+same file) and :func:`write_outputs` (after solving: everything is rendered in
+memory first, then each file is written atomically, so a failure never
+leaves a partial file).
+"""
+
+from __future__ import annotations
+
+import argparse
+import os
+from pathlib import Path
+
+from ..errors import InputError
+from ..stress_units import STRESS_UNITS, shear_scale
+from ._io import check_writable, write_atomic
+
+__all__ = ["add_output_args", "check_outputs", "write_outputs", "torque_line"]
+
+#: (option, dest) of the options that name an output file
+_FILE_OPTIONS = [("--plot", "plot"), ("--plot-warping", "plot_warping"),
+                 ("--plot-3d", "plot_3d"), ("--report", "report"), ("--mesh-out", "mesh_out")]
+
+
+def add_output_args(p: argparse.ArgumentParser) -> None:
+    """Add the picture, report and mesh-export options."""
+    g = p.add_argument_group("pictures, report and mesh export")
+    g.add_argument("--plot", metavar="OUT",
+                   help="shear-stress map with shear-flow lines and the peak (.png, .svg, .pdf)")
+    g.add_argument("--plot-mesh", action="store_true", help="draw the mesh over the --plot map")
+    g.add_argument("--plot-warping", metavar="OUT", help="warping (axial displacement) map")
+    g.add_argument("--plot-3d", metavar="OUT", help="3D view of the stress-function surface")
+    g.add_argument("--torque", type=float, metavar="T",
+                   help="torque in N*m: pictures, report and mesh file show stresses "
+                        "(section lengths in the input's unit)")
+    g.add_argument("--stress-unit", default="MPa", choices=list(STRESS_UNITS),
+                   help="stress unit used with --torque (default MPa)")
+    g.add_argument("--report", metavar="OUT.html", help="self-contained HTML report")
+    g.add_argument("--mesh-out", metavar="OUT",
+                   help="mesh with phi, omega and shear for ParaView (.vtu, .vtk, .msh, ...)")
+
+
+def check_outputs(args) -> None:
+    """Validate every output option before solving; raise InputError."""
+    from ..export import mesh_format
+    from ..plots import figure_format
+
+    if args.torque is not None:
+        shear_scale("mm", args.torque, args.stress_unit)  # validates the numbers
+    seen: dict[str, str] = {}
+    json_out = getattr(args, "json", None)
+    if json_out and json_out != "-":
+        seen[_same_file_key(json_out)] = "--json"
+    src = _same_file_key(args.input)
+    for option, dest in _FILE_OPTIONS:
+        out = getattr(args, dest, None)
+        if not out:
+            continue
+        if dest == "mesh_out":
+            mesh_format(out, option)
+        elif dest == "report":
+            if Path(out).suffix.lower() not in (".html", ".htm"):
+                raise InputError("a report file must end in .html", where=f"{option} {out}",
+                                 fix="e.g. --report shaft.html")
+        else:
+            try:
+                figure_format(out)
+            except InputError as exc:
+                raise InputError(exc.what, where=f"{option} {out}", fix=exc.fix) from None
+        check_writable(out, option)
+        key = _same_file_key(out)
+        if key == src:
+            raise InputError("would overwrite the input file", where=f"{option} {out}",
+                             fix="choose another output name")
+        if key in seen:
+            raise InputError(f"is also given to {seen[key]}", where=f"{option} {out}",
+                             fix="give each output its own file name")
+        seen[key] = option
+    if args.plot_mesh and not args.plot:
+        raise InputError("needs --plot OUT", where="--plot-mesh",
+                         fix="add --plot shear.png, or drop --plot-mesh")
+
+
+def _same_file_key(path) -> str:
+    return os.path.normcase(os.path.realpath(path))
+
+
+def torque_line(result, args) -> str | None:
+    """One line with the peak stress at the given torque, or None."""
+    if args.torque is None:
+        return None
+    s = shear_scale(result.units, args.torque, args.stress_unit)
+    return (f"Peak shear stress at T = {args.torque:g} N·m: "
+            f"{result.max_shear_per_torque * s.factor:.4g} {args.stress_unit}")
+
+
+def write_outputs(args, result, inputs: dict | None = None) -> list[Path]:
+    """Render and write the outputs asked for; return the paths written."""
+    from .. import plots
+
+    pending: list[tuple[str, bytes | str]] = []
+    torque, unit = args.torque, args.stress_unit
+    if args.plot:
+        ax = plots.plot_shear(result, torque=torque, stress_unit=unit, show_mesh=args.plot_mesh)
+        pending.append((args.plot, plots.figure_bytes(ax, plots.figure_format(args.plot))))
+    if args.plot_warping:
+        ax = plots.plot_warping(result)
+        pending.append((args.plot_warping,
+                        plots.figure_bytes(ax, plots.figure_format(args.plot_warping))))
+    if args.plot_3d:
+        ax = plots.plot_stress_surface(result)
+        pending.append((args.plot_3d, plots.figure_bytes(ax, plots.figure_format(args.plot_3d))))
+    if args.report:
+        from ..report import render_report
+
+        pending.append((args.report, render_report(result, inputs=inputs, torque=torque,
+                                                   stress_unit=unit)))
+    written = []
+    try:
+        if args.mesh_out:
+            from ..export import write_mesh
+
+            written.append(write_mesh(result, args.mesh_out, torque=torque, stress_unit=unit))
+        for path, data in pending:
+            write_atomic(path, data)
+            written.append(Path(path))
+    except OSError as exc:  # disk full, folder removed meanwhile...
+        raise InputError(f"could not write {exc.filename or 'a file'}: {exc.strerror}",
+                         fix="check the folder and the free space") from None
+    return written

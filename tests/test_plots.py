@@ -1,0 +1,206 @@
+"""Pictures: produced, non-trivial, labelled; the plotted field against closed forms."""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+
+import numpy as np
+import pytest
+
+from _visual_sections import (
+    circle_loop,
+    nonwhite_fraction,
+    png_pixels,
+    rect_result,
+    rectangle_series,
+    tube_result,
+)
+from soapfilm import Profile, analyse, plots
+from soapfilm.errors import InputError
+from soapfilm.mesh import Mesh
+
+# ends of matplotlib's viridis colour map (its published first and last entries)
+VIRIDIS_LOW = np.array([0.267004, 0.004874, 0.329415])
+VIRIDIS_HIGH = np.array([0.993248, 0.906157, 0.143936])
+
+
+def _has_colour(img, rgb, atol=0.03) -> bool:
+    return bool(np.any(np.all(np.abs(img[..., :3] - rgb) < atol, axis=-1)))
+
+
+def _peak_label(ax) -> str:
+    (legend,) = ax.figure.legends
+    (text,) = legend.get_texts()
+    assert text.get_text().startswith("peak ")
+    return text.get_text()
+
+
+def _colorbar_axes(ax):
+    bars = [a for a in ax.child_axes if a.get_label() == "colorbar"]
+    assert len(bars) == 1, "one colour bar expected"
+    return bars[0]
+
+
+def test_shear_map_png_is_a_real_picture():
+    r = rect_result()
+    ax = plots.plot_shear(r)
+    img = png_pixels(plots.figure_bytes(ax, "png"))
+    h, w = img.shape[:2]
+    assert w >= 900 and h >= 450  # 6.4 in wide at 150 dpi, height follows the 2:1 bar
+    assert nonwhite_fraction(img) > 0.3
+    # colour bar spans the whole map: both ends of viridis are drawn
+    assert _has_colour(img, VIRIDIS_LOW) and _has_colour(img, VIRIDIS_HIGH)
+    cb = _colorbar_axes(ax)
+    assert "1/mm³" in cb.get_ylabel()
+    assert ax.get_aspect() == 1.0
+    assert "1/mm³" in _peak_label(ax)
+
+
+def test_labels_are_not_clipped():
+    """Every text of the figure lies inside the saved picture (constrained layout)."""
+    ax = plots.plot_shear(tube_result(), torque=50.0)
+    fig = ax.figure
+    plots.figure_bytes(fig, "png")  # draws the figure
+    renderer = fig.canvas.get_renderer()
+    box = fig.bbox
+    items = [ax.title, ax.xaxis.label, ax.yaxis.label, _colorbar_axes(ax).yaxis.label,
+             *fig.legends[0].get_texts()]
+    for item in items:
+        bb = item.get_window_extent(renderer)
+        assert bb.x0 >= box.x0 - 1 and bb.x1 <= box.x1 + 1, item.get_text()
+        assert bb.y0 >= box.y0 - 1 and bb.y1 <= box.y1 + 1, item.get_text()
+
+
+def test_peak_label_in_stress_units_with_a_torque():
+    """T in N*m on a section in mm gives MPa: 1 N*m = 1000 N*mm and 1 N/mm^2 = 1 MPa
+    (SI definitions)."""
+    r = rect_result()
+    ax = plots.plot_shear(r, torque=120.0, stress_unit="MPa")
+    assert "MPa" in _colorbar_axes(ax).get_ylabel()
+    expected = r.max_shear_per_torque * 120.0 * 1000.0
+    assert float(_peak_label(ax).split()[1]) == pytest.approx(expected, rel=5e-4, abs=0)
+    # psi: 1 psi = 6894.757 Pa (NIST SP 811, appendix B)
+    ax = plots.plot_shear(r, torque=120.0, stress_unit="psi")
+    psi = float(_peak_label(ax).split()[1])
+    assert psi == pytest.approx(expected * 1e6 / 6894.757, rel=5e-4, abs=0)
+
+
+def test_bad_torque_is_an_input_error():
+    with pytest.raises(InputError, match="torque must be a positive number"):
+        plots.plot_shear(rect_result(), torque=-3.0)
+
+
+def test_nodal_shear_of_a_round_bar_is_the_elementary_solution():
+    """Round bar: tau = T r / J, direction (-y, x) (elementary torsion theory; Timoshenko &
+    Goodier, 3rd ed., sec. 101).  Checked at interior nodes against the meshed polygon's J."""
+    prof = Profile.from_loops([circle_loop(10.0, 256)], name="round bar d20")
+    r = analyse(prof, mesh_size=0.6)
+    tau = plots.nodal_shear(r)
+    x, y = r.fields.p
+    rad = np.hypot(x, y)
+    inner = rad < 8.0
+    exact = np.stack([-y, x]) / r.torsion_constant
+    err = np.abs(tau[:, inner] - exact[:, inner]).max()
+    assert err <= 0.01 * 10.0 / r.torsion_constant  # 1 % of the rim stress
+
+
+def test_shear_map_peak_matches_the_rectangle_series():
+    """Colour-map maximum (recovered nodal shear) against the exact rectangle peak,
+    Timoshenko & Goodier 3rd ed. sec. 109; P1 with recovery on h = 0.4 on a 20 x 10 bar."""
+    r = rect_result()
+    _, tau_exact = rectangle_series(20.0, 10.0)
+    mag = np.hypot(*plots.nodal_shear(r))
+    assert mag.max() == pytest.approx(tau_exact, rel=0.02, abs=0)
+
+
+def test_wide_section_gets_its_colour_bar_underneath():
+    """A 100 x 4 strip: the bar lies under the map, labels stay inside the picture."""
+    r = analyse(Profile.from_loops([[(0, 0), (100, 0), (100, 4), (0, 4)]], name="strip"),
+                mesh_size=1.0)
+    ax = plots.plot_shear(r)
+    fig = ax.figure
+    plots.figure_bytes(fig, "png")
+    bars = [a for a in fig.axes if a is not ax]
+    assert len(bars) == 1
+    bar, box = bars[0].get_position(), ax.get_position()
+    assert bar.y1 < box.y0 and bar.width > 0.8 * box.width
+    renderer = fig.canvas.get_renderer()
+    for item in (ax.title, bars[0].xaxis.label, *fig.legends[0].get_texts()):
+        bb = item.get_window_extent(renderer)
+        assert fig.bbox.x0 - 1 <= bb.x0 and bb.x1 <= fig.bbox.x1 + 1
+        assert fig.bbox.y0 - 1 <= bb.y0 and bb.y1 <= fig.bbox.y1 + 1
+
+
+def test_warping_map_and_surface_and_section():
+    r = tube_result()
+    ax = plots.plot_warping(r, show_mesh=True)
+    img = png_pixels(plots.figure_bytes(ax, "png"))
+    assert nonwhite_fraction(img) > 0.2
+    assert "mm²" in _colorbar_axes(ax).get_ylabel()
+    ax3 = plots.plot_stress_surface(r)
+    img3 = png_pixels(plots.figure_bytes(ax3, "png"))
+    assert img3.shape[1] >= 800 and nonwhite_fraction(img3) > 0.15
+    axs = plots.draw_section(r.profile, mesh=r.mesh)
+    img_s = png_pixels(plots.figure_bytes(axs, "png"))
+    assert nonwhite_fraction(img_s) > 0.2
+    assert "1 hole" in axs.get_title()
+
+
+def test_vector_formats_and_atomic_save(tmp_path):
+    ax = plots.plot_shear(rect_result(), show_mesh=True)
+    svg = plots.figure_bytes(ax, "svg")
+    assert b"<svg" in svg[:500] and b"image/png" in svg  # field rasterised, lines vector
+    assert plots.figure_bytes(ax, "pdf")[:5] == b"%PDF-"
+    out = plots.save_figure(ax, tmp_path / "map.pdf")
+    assert out.read_bytes()[:5] == b"%PDF-"
+    with pytest.raises(InputError, match="picture format"):
+        plots.save_figure(ax, tmp_path / "map.jpeg")
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["map.pdf"]
+
+
+def test_quadratic_mesh_is_drawn_on_its_corner_nodes():
+    """A (6, M) mesh (corner nodes first) gives the same nodal shear at the corners."""
+    r = rect_result()
+    m, f = r.mesh, r.fields
+    t = m.t
+    n = m.nnodes
+    edges = np.concatenate([t[[0, 1]], t[[1, 2]], t[[2, 0]]], axis=1)
+    mid_p = 0.5 * (m.p[:, edges[0]] + m.p[:, edges[1]])
+    mid_ids = n + np.arange(edges.shape[1]).reshape(3, -1)
+    t6 = np.vstack([t, mid_ids])
+    p6 = np.hstack([m.p, mid_p])
+    mesh6 = Mesh(p6, t6, m.segments, m.segment_markers, m.hole_areas)
+    fields6 = dataclasses.replace(
+        f,
+        p=np.hstack([f.p, 0.5 * (f.p[:, edges[0]] + f.p[:, edges[1]])]),
+        phi=np.concatenate([f.phi, 0.5 * (f.phi[edges[0]] + f.phi[edges[1]])]),
+        omega=np.concatenate([f.omega, 0.5 * (f.omega[edges[0]] + f.omega[edges[1]])]),
+    )
+    r6 = dataclasses.replace(r, mesh=mesh6, fields=fields6, order=2)
+    tau6 = plots.nodal_shear(r6)
+    np.testing.assert_allclose(tau6[:, :n], plots.nodal_shear(r), rtol=1e-12, atol=0)
+    for ax in (plots.plot_shear(r6, show_mesh=True), plots.plot_warping(r6),
+               plots.plot_stress_surface(r6), plots.draw_section(r6.profile, mesh6)):
+        assert nonwhite_fraction(png_pixels(plots.figure_bytes(ax, "png"))) > 0.15
+    assert math.isfinite(tau6.max())
+
+
+@pytest.mark.parametrize("fmt", ["png", "svg", "pdf"])
+def test_pictures_are_reproducible(fmt):
+    """Same result, same bytes: no time stamps or random ids in the files."""
+    r = rect_result()
+    a = plots.figure_bytes(plots.plot_shear(r), fmt)
+    b = plots.figure_bytes(plots.plot_shear(r), fmt)
+    assert a == b
+
+
+def test_stress_surface_labels_are_inside_the_picture():
+    ax = plots.plot_stress_surface(tube_result())
+    fig = ax.figure
+    plots.figure_bytes(fig, "png")
+    renderer = fig.canvas.get_renderer()
+    for item in (ax.title, ax.xaxis.label, ax.yaxis.label, ax.zaxis.label):
+        bb = item.get_window_extent(renderer)
+        assert fig.bbox.x0 - 1 <= bb.x0 and bb.x1 <= fig.bbox.x1 + 1, item.get_text()
+        assert fig.bbox.y0 - 1 <= bb.y0 and bb.y1 <= fig.bbox.y1 + 1, item.get_text()
