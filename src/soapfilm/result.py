@@ -163,15 +163,18 @@ class TorsionResult:
         return rows
 
     def _repr_html_(self) -> str:  # notebooks
+        from html import escape
+
         cells = "".join(
-            f"<tr><td>{q}</td><td style='text-align:right'>{v}</td><td>{u}</td></tr>"
+            f"<tr><td>{escape(q)}</td><td style='text-align:right'>{escape(v)}</td>"
+            f"<td>{escape(u)}</td></tr>"
             for q, v, u in self.summary_rows()
         )
-        warn = "".join(f"<li>{w}</li>" for w in self.warnings)
+        warn = "".join(f"<li>{escape(w)}</li>" for w in self.warnings)
         return (
             f"<table>{cells}</table>"
             + (f"<ul>{warn}</ul>" if warn else "")
-            + f"<p><small>{CAUTION}</small></p>"
+            + f"<p><small>{escape(CAUTION)}</small></p>"
         )
 
 

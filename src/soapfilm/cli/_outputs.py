@@ -33,9 +33,9 @@ def add_output_args(p: argparse.ArgumentParser) -> None:
     g.add_argument("--plot-mesh", action="store_true", help="draw the mesh over the --plot map")
     g.add_argument("--plot-warping", metavar="OUT", help="warping (axial displacement) map")
     g.add_argument("--plot-3d", metavar="OUT", help="3D view of the stress-function surface")
-    g.add_argument("--torque", type=float, metavar="T",
-                   help="torque in N*m: pictures, report and mesh file show stresses "
-                        "(section lengths in the input's unit)")
+    g.add_argument("--torque", metavar="T",
+                   help="torque with its unit, e.g. '320 N*m' or '2800 lbf*in' (a bare number "
+                        "is N*m): pictures, report and mesh file then show stresses")
     g.add_argument("--stress-unit", default="MPa", choices=list(STRESS_UNITS),
                    help="stress unit used with --torque (default MPa)")
     g.add_argument("--report", metavar="OUT.html", help="self-contained HTML report")
@@ -43,11 +43,23 @@ def add_output_args(p: argparse.ArgumentParser) -> None:
                    help="mesh with phi, omega and shear for ParaView (.vtu, .vtk, .msh, ...)")
 
 
+def _torque_nm(text: str) -> float:
+    """'320 N*m', '2800 lbf*in' -> N*m; a bare number is taken as N*m."""
+    try:
+        return float(text)
+    except ValueError:
+        from ..units import parse_quantity
+
+        return parse_quantity(text, "torque", "--torque")
+
+
 def check_outputs(args) -> None:
     """Validate every output option before solving; raise InputError."""
     from ..export import mesh_format
     from ..plots import figure_format
 
+    if args.torque is not None and not isinstance(args.torque, float):
+        args.torque = _torque_nm(args.torque)
     if args.torque is not None:
         shear_scale("mm", args.torque, args.stress_unit)  # validates the numbers
     seen: dict[str, str] = {}

@@ -11,7 +11,7 @@ from ..readers.meshfile import is_mesh_file, read_mesh_file  # visual: mesh-file
 from ..result import CAUTION, TorsionResult
 from ..solve import analyse, result_from_mesh
 from . import _outputs  # visual: pictures, report, mesh export
-from ._io import check_writable, console, write_json
+from ._io import check_writable, console, progress, write_json
 
 NAME = "solve"
 HELP = "compute J, peak shear per unit torque and related properties of a section"
@@ -115,8 +115,13 @@ def run(args) -> int:
 
         opts = settings_for(args.input)
         mesh_size = args.mesh_size if args.mesh_size is not None else opts.get("mesh_size")
-        result = analyse(profile, mesh_size=mesh_size, method=opts.get("method", "auto"),
-                         **accuracy_options(args, mesh_size))
+        acc = accuracy_options(args, mesh_size)
+        with progress("refining", quiet=args.quiet or args.json == "-") as bar:
+            if "tol" in acc:
+                acc["progress"] = lambda e: bar.update(
+                    description=f"refining: {e['elements']} elements, J bracket "
+                                f"{e['relative_bracket']:.1e}, peak error {e['max_shear_error']:.1e}")
+            result = analyse(profile, mesh_size=mesh_size, method=opts.get("method", "auto"), **acc)
     con = console(args.quiet or args.json == "-")
     if con:
         print_summary(result, con)
