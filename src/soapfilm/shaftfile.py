@@ -308,6 +308,9 @@ def shaft_from_dict(data: dict, base: Path, where: str, options: CheckOptions | 
     """Build a :class:`ShaftModel` from the parsed TOML of a shaft file."""
     opts = options or CheckOptions()
     sections = sections or SectionSource()
+    if "segment" not in data and ("section" in data or "part" in data):
+        raise InputError("is a section shape file (it has [section] or [[part]]), not a shaft file",
+                         where=where, fix=f"run 'soapfilm solve {where}' or 'soapfilm check'")
     _check_keys(data, _TOP_KEYS, where)
     section_units = data.get("section_units")
     if section_units is not None and section_units not in LENGTH_UNITS:

@@ -65,6 +65,18 @@ def main(argv: list[str] | None = None) -> int:
     except KeyboardInterrupt:
         print("soapfilm: interrupted", file=sys.stderr)
         return 130
+    except MemoryError:
+        if args.debug:
+            raise
+        print("soapfilm: error: out of memory (use a larger --mesh-size, a looser --tol or a "
+              "smaller --max-elements)", file=sys.stderr)
+        return 2
+    except Exception as exc:  # a bug, not a user error: one line, traceback with --debug
+        if args.debug:
+            raise
+        print(f"soapfilm: internal error: {type(exc).__name__}: {exc} (this is a bug in soapfilm; "
+              f"rerun with --debug and report the traceback)", file=sys.stderr)
+        return 1
 
 
 if __name__ == "__main__":  # pragma: no cover
