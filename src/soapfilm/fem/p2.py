@@ -32,8 +32,10 @@ rational weights that is exact up to degree 3.
 
 References
 ----------
-.. [1] G. Strang and G. J. Fix, An Analysis of the Finite Element Method,
-   Prentice-Hall, 1973, sec. 4.3 (the 7-point degree-3 triangle rule).
+.. [1] The 7-point rule (centroid 27/60, edge midpoints 8/60, vertices
+   3/60) is a classical degree-3 triangle rule (from memory); its exactness
+   is checked in ``tests/test_p2.py`` against the closed-form integrals of
+   barycentric monomials.
 .. [2] S. P. Timoshenko and J. N. Goodier, Theory of Elasticity, 3rd ed.,
    McGraw-Hill, 1970, ch. 10.
 .. [3] W. Prager and J. L. Synge, "Approximations in elasticity based on the
@@ -68,10 +70,17 @@ __all__ = [
     "solve_torsion_p2",
     "element_indicators",
     "boundary_peak_p2",
+    "interior_angles",
     "uniformly_refined",
 ]
 
 log = logging.getLogger(__name__)
+
+#: Unknowns up to which ``method="auto"`` factorises directly.  Higher than
+#: :data:`soapfilm.fem.linsolve.DIRECT_LIMIT`: smoothed aggregation needs far
+#: more iterations on P2 matrices (positive off-diagonals), e.g. 135 681
+#: unknowns on the keyed shaft: SuperLU 1.3 s, AMG-CG 5.2 s (2-core sandbox).
+P2_DIRECT_LIMIT = 400_000
 
 #: Barycentric coordinates (npts, 3) of the 7-point rule: centroid, edge
 #: midpoints, vertices.  Exact for polynomials of degree <= 3.
@@ -271,7 +280,8 @@ def solve_torsion_p2(mesh: Mesh, method: str = "auto", nodes: P2Nodes | None = N
     mesh : Mesh
         Straight-sided P1 mesh; the midpoints are added here.
     method : {"auto", "direct", "amg"}
-        Linear solver, see :func:`soapfilm.fem.linsolve.solve_spd`.
+        Linear solver, see :func:`soapfilm.fem.linsolve.solve_spd`; "auto"
+        factorises up to :data:`P2_DIRECT_LIMIT` unknowns.
     nodes : P2Nodes, optional
         Precomputed :func:`p2_nodes` of ``mesh``.
     """
@@ -279,6 +289,8 @@ def solve_torsion_p2(mesh: Mesh, method: str = "auto", nodes: P2Nodes | None = N
         nodes = p2_nodes(mesh)
     t, t6 = mesh.t, nodes.t6
     n = nodes.nnodes
+    if method == "auto":
+        method = "direct" if n <= P2_DIRECT_LIMIT else "amg"
     area0, _ = p1.geometry(mesh.p, t)
     total = float(area0.sum())
     xc, yc = mesh.p[0, t].mean(axis=0), mesh.p[1, t].mean(axis=0)
@@ -310,10 +322,16 @@ def solve_torsion_p2(mesh: Mesh, method: str = "auto", nodes: P2Nodes | None = N
     hole_values = x[nfree:].copy()
     j_lo = float(b @ phi) + 2.0 * float(hole_values @ mesh.hole_areas)
 
-    # ---- warping function: corner node 0 pinned, then mean zero
+    # ---- warping function, then mean zero.  Direct: corner node 0 pinned.
+    # AMG: the singular Neumann system with the load projected on the range
+    # (sum f = 0 up to rounding), which CG handles; pinning one node slows
+    # AMG-CG down by an order of magnitude on P2.
     f = coordinate_load(p, t6, area, lgrad, n)
-    w = np.zeros(n)
-    w[1:] = solve_spd(k[1:, 1:], f[1:], method=method)
+    if method == "amg":
+        w = solve_spd(k, f - f.mean(), method="amg")
+    else:
+        w = np.zeros(n)
+        w[1:] = solve_spd(k[1:, 1:], f[1:], method=method)
     w -= (mvec @ w) / total
     ixx, iyy, _ = p1.second_moments(p, t, area)
     ip = float(ixx.sum() + iyy.sum())
@@ -372,6 +390,9 @@ class P2Peak:
         Boundary P2 nodes.
     tau_phi, tau_w : ndarray
         ``|tau|`` from each field at ``nodes``.
+    skipped : ndarray
+        Re-entrant polygon vertices left out of the maximum (empty unless
+        asked for).
     """
 
     value: float
@@ -381,9 +402,29 @@ class P2Peak:
     nodes: np.ndarray
     tau_phi: np.ndarray
     tau_w: np.ndarray
+    skipped: np.ndarray
 
 
-def boundary_peak_p2(fields: P2Fields) -> P2Peak:
+def interior_angles(p: np.ndarray, t: np.ndarray) -> np.ndarray:
+    """Interior angle (radians) of the meshed domain at every P1 node.
+
+    The sum of the angles at the node of all elements touching it: 2 pi
+    inside, pi at a boundary node on a straight run, more than pi at a
+    re-entrant boundary vertex.
+    """
+    n = p.shape[1]
+    out = np.zeros(n)
+    for i in range(3):
+        u = p[:, t[(i + 1) % 3]] - p[:, t[i]]
+        v = p[:, t[(i + 2) % 3]] - p[:, t[i]]
+        ang = np.arctan2(np.abs(u[0] * v[1] - u[1] * v[0]), u[0] * v[0] + u[1] * v[1])
+        out += np.bincount(t[i], weights=ang, minlength=n)
+    return out
+
+
+def boundary_peak_p2(
+    fields: P2Fields, skip_reentrant: bool = False, angle_tol_deg: float = 0.01
+) -> P2Peak:
     """Peak shear on the boundary from the P2 element gradients.
 
     The gradient of each element is evaluated at its six local nodes.  A
@@ -403,6 +444,24 @@ def boundary_peak_p2(fields: P2Fields) -> P2Peak:
     same way at the same nodes; the two fields converge to the same stress
     from opposite sides of the hypercircle, so their difference at the peak
     node shows how far the peak has settled.
+
+    Parameters
+    ----------
+    fields : P2Fields
+    skip_reentrant : bool
+        Leave out the boundary nodes near re-entrant vertices of the polygon
+        (interior angle above ``180 + angle_tol_deg`` degrees): every node
+        closer to such a vertex than a quarter of the vertex's distance to
+        its nearest other polygon vertex.  The stress at a re-entrant vertex
+        is unbounded, and near it grows like ``r**(pi/alpha - 1)``, so any
+        nodal maximum there creeps upward under refinement as nodes approach
+        the vertex.  This matters also for a concave arc given as a
+        polyline, whose every vertex is slightly re-entrant: with 24 chords
+        on a quarter circle the nodal maximum grows about 1.4 % per halving
+        of h, while the values at the middle halves of the chords converge.
+    angle_tol_deg : float
+        Tolerance above 180 deg; the default ignores the collinear nodes the
+        mesher adds on straight runs (which are not polygon vertices either).
     """
     t6, lgrad = fields.t6, fields.elem_grad
     n = fields.p.shape[1]
@@ -423,6 +482,10 @@ def boundary_peak_p2(fields: P2Fields) -> P2Peak:
         )
 
     bnodes = np.flatnonzero(fields.nodes.boundary_marker > 0)
+    skipped = np.zeros(0, dtype=np.int64)
+    if skip_reentrant:
+        skipped = _near_reentrant(fields.p, t6, bnodes, np.radians(angle_tol_deg))
+        bnodes = np.setdiff1d(bnodes, skipped)
     ap, aw = avg(tp)[:, bnodes], avg(tw)[:, bnodes]
     tau_p = np.hypot(ap[0], ap[1])
     tau_w = np.hypot(aw[0], aw[1])
@@ -437,7 +500,30 @@ def boundary_peak_p2(fields: P2Fields) -> P2Peak:
         nodes=bnodes,
         tau_phi=tau_p,
         tau_w=tau_w,
+        skipped=skipped,
     )
+
+
+def _near_reentrant(p, t6, bnodes, tol: float) -> np.ndarray:
+    """Boundary P2 nodes within a quarter-edge of a re-entrant polygon vertex."""
+    from scipy.spatial import cKDTree
+
+    ncorner = int(t6[:3].max()) + 1
+    corners = bnodes[bnodes < ncorner]
+    ang = interior_angles(p[:, :ncorner], t6[:3])[corners]
+    vertex = np.abs(ang - np.pi) > tol  # polygon vertices (not collinear mesher nodes)
+    vx = corners[vertex]
+    reent = ang[vertex] > np.pi + tol
+    if not reent.any():
+        return np.zeros(0, dtype=np.int64)
+    if len(vx) < 2:
+        return vx[reent]
+    tree = cKDTree(p[:, vx].T)
+    dist2, _ = tree.query(p[:, vx].T, k=2)
+    radius = 0.25 * dist2[:, 1]  # quarter of the distance to the nearest other vertex
+    d, j = tree.query(p[:, bnodes].T, k=1)
+    near = reent[j] & (d < radius[j] * (1.0 + 1e-9))
+    return bnodes[near]
 
 
 def uniformly_refined(mesh: Mesh, nodes: P2Nodes | None = None) -> Mesh:
