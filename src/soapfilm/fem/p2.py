@@ -429,8 +429,9 @@ class P2Peak:
     tau_phi, tau_w : ndarray
         ``|tau|`` from each field at ``nodes``.
     skipped : ndarray
-        Re-entrant polygon vertices left out of the maximum (empty unless
-        asked for).
+        Boundary P2 nodes left out of the maximum because they lie near a
+        re-entrant polygon vertex (empty unless asked for; see
+        :func:`boundary_peak_p2`).
     """
 
     value: float
