@@ -66,9 +66,10 @@ def boundary_shear(mesh: Mesh, fields: TorsionFields) -> tuple[np.ndarray, np.nd
     subharmonic, so the peak lies on the boundary.
     """
     if getattr(fields, "order", 1) == 2:
-        from .fem.p2 import boundary_shear_p2
+        from .fem.p2 import boundary_peak_p2
 
-        return boundary_shear_p2(mesh, fields)
+        pk = boundary_peak_p2(fields)  # node-averaged P2 gradients at every boundary P2 node
+        return pk.nodes, pk.tau_phi, pk.tau_w
     t = mesh.t[:3]
     nodes = mesh.boundary_nodes
     gphi = element_gradients(t, fields.elem_grad, fields.phi)
