@@ -18,7 +18,7 @@ from ..errors import SoapfilmError
 __all__ = ["main", "SUBCOMMANDS"]
 
 #: subcommand modules, in the order ``--help`` lists them
-SUBCOMMANDS = ["solve", "shapes", "check", "shaft"]
+SUBCOMMANDS = ["solve", "shapes", "check", "shaft", "batch", "sweep"]
 
 
 class _Parser(argparse.ArgumentParser):
