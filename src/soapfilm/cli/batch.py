@@ -119,7 +119,8 @@ def print_table(rows: list[dict], unit: str, con, title: str) -> None:
                   pad_edge=False,
                   caption=f"J in {unit}^4 (± relative half-width of the guaranteed bracket), "
                           f"tau/T peak shear per unit torque in 1/{unit}^3, Wt in {unit}^3")
-    table.add_column("section", min_width=min(18, max(len(r["label"]) for r in rows)))
+    table.add_column("section", min_width=min(18, max(len(r["label"]) for r in rows)),
+                     overflow="fold")
     for name in ("J", "±", "tau/T", "Wt", "J/Ip"):
         table.add_column(name, justify="right", no_wrap=True)
     table.add_column("note", min_width=6)
