@@ -34,6 +34,7 @@ True
 from __future__ import annotations
 
 import concurrent.futures as cf
+import contextlib
 import copy
 import csv
 import io
@@ -229,8 +230,29 @@ Progress = Callable[[int, int, dict], None]
 
 def _error_row(job: Job, exc: BaseException) -> dict:
     row = _empty_row(job)
-    row["error"] = _message(exc)
+    if isinstance(exc, cf.process.BrokenProcessPool):
+        row["error"] = f"{_DIED} (out of memory, or a crash in a native library)"
+    else:
+        row["error"] = _message(exc)
     return row
+
+
+#: numeric-library thread counts for worker processes: one process per core
+#: already fills the machine, and extra threads only compete (measured in
+#: notes/batch.md); variables the user set are left alone
+_ONE_THREAD = {"OMP_NUM_THREADS": "1", "OPENBLAS_NUM_THREADS": "1", "MKL_NUM_THREADS": "1"}
+
+
+@contextlib.contextmanager
+def _worker_environment():
+    """Environment the worker processes start with (restored afterwards)."""
+    added = [k for k in _ONE_THREAD if k not in os.environ]
+    os.environ.update({k: _ONE_THREAD[k] for k in added})
+    try:
+        yield
+    finally:
+        for k in added:
+            os.environ.pop(k, None)
 
 
 def _pool_context():
@@ -259,7 +281,7 @@ def _collect(futures: list, jobs: list[Job], wait: Callable, progress: Progress 
         try:
             rows.append(f.result())
         except Exception as exc:  # noqa: BLE001 - e.g. a worker process killed
-            log.warning("job %r: %s", job.label, _message(exc))
+            log.debug("job %r: %s", job.label, _message(exc))
             rows.append(_error_row(job, exc))
     return rows
 
@@ -324,9 +346,26 @@ def run_batch(
             if progress is not None:
                 progress(done, len(jobs), rows[-1])
         return rows
-    pool = cf.ProcessPoolExecutor(max_workers=min(n, len(jobs)), mp_context=_pool_context())
+    rows = _in_pool(jobs, min(n, len(jobs)), progress)
+    # a worker that died (killed for memory, a crash in native code) breaks the whole
+    # pool: run the jobs it took down again, each alone, so only the culprit fails
+    lost = [i for i, r in enumerate(rows) if r.get("error", "") and r["error"].startswith(_DIED)]
+    if lost:
+        log.warning("a worker process died; running %d job(s) again one by one", len(lost))
+    for i in lost:
+        rows[i] = _in_pool([jobs[i]], 1, None)[0]
+    return rows
+
+
+#: start of the error of a job whose worker process died
+_DIED = "worker process died"
+
+
+def _in_pool(jobs: list[Job], n: int, progress: Progress | None) -> list[dict]:
+    pool = cf.ProcessPoolExecutor(max_workers=n, mp_context=_pool_context())
     try:
-        futures = [pool.submit(run_job, j) for j in jobs]
+        with _worker_environment():  # the workers (and the fork server) start here
+            futures = [pool.submit(run_job, j) for j in jobs]
         return _collect(futures, jobs, cf.as_completed, progress)
     except BaseException:  # e.g. Ctrl-C: drop the jobs not yet started
         pool.shutdown(wait=False, cancel_futures=True)
@@ -354,7 +393,7 @@ def _run_dask(jobs: list[Job], workers: int | None, scheduler, progress) -> list
         owned = [client, cluster]
     elif isinstance(scheduler, str) and _ADDRESS.match(scheduler):
         try:
-            client = Client(scheduler, timeout="20s")
+            client = Client(scheduler, timeout="10s")
         except (OSError, TimeoutError) as exc:
             raise InputError(f"cannot reach the Dask scheduler ({_message(exc)})",
                              where=f"--scheduler {scheduler}",

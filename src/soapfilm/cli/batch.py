@@ -94,6 +94,10 @@ def execute(args, jobs) -> list[dict]:
     run = {"workers": args.jobs}
     if args.scheduler is not None:
         run.update(executor="dask", scheduler=args.scheduler)
+        if not args.debug:  # Dask's own INFO chatter is not for this terminal
+            import logging
+
+            logging.getLogger("distributed").setLevel(logging.WARNING)
     if args.quiet or not sys.stderr.isatty():
         return run_batch(jobs, progress=None, **run)
     from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn, TimeElapsedColumn
