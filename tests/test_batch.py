@@ -288,3 +288,15 @@ def test_cli_bad_input_exit_2_one_line_no_file(argv, message, rect_file, tmp_pat
     err = capsys.readouterr().err.strip()
     assert len(err.splitlines()) == 1 and message in err, err
     assert not csv_out.exists()
+
+
+def test_progress_reports_every_job_and_options_are_checked(rect_file):
+    seen = []
+    rows = sweep(rect_file, {"width": [1, 2, 3]}, options={"mesh_size": 0.2}, workers=2,
+                 progress=lambda done, total, row: seen.append((done, total, row["label"])))
+    assert [s[:2] for s in seen] == [(1, 3), (2, 3), (3, 3)]
+    assert sorted(s[2] for s in seen) == sorted(r["label"] for r in rows)
+    with pytest.raises(InputError, match=r"unknown job option 'mesh'.*did you mean 'mesh_size'"):
+        run_batch([("a", rect_file, {"mesh": 0.2})])
+    with pytest.raises(InputError, match="unknown executor"):
+        run_batch([("a", rect_file, {})], executor="threads")
