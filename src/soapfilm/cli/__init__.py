@@ -18,7 +18,11 @@ from ..errors import SoapfilmError
 __all__ = ["main", "SUBCOMMANDS"]
 
 #: subcommand modules, in the order ``--help`` lists them
+<<<<<<< HEAD
 SUBCOMMANDS = ["solve", "show", "shapes", "check", "shaft"]
+=======
+SUBCOMMANDS = ["solve", "shapes", "check", "shaft", "batch", "sweep"]
+>>>>>>> batch
 
 
 class _Parser(argparse.ArgumentParser):

@@ -335,7 +335,8 @@ def solve_torsion_p2(mesh: Mesh, method: str = "auto", nodes: P2Nodes | None = N
         x = solve_spd(k_red, b_red, method="direct")
     phi = prolong @ x
     hole_values = x[nfree:].copy()
-    j_lo = float(b @ phi) + 2.0 * float(hole_values @ mesh.hole_areas)
+    # bound for any approximate phi (see fem.torsion): 2 l(phi) - a(phi, phi)
+    j_lo = 2.0 * float(b_red @ x) - float(x @ (k_red @ x))
 
     # ---- warping function, then mean zero.  Direct: corner node 0 pinned.
     # AMG: the singular Neumann system with the load projected on the range
@@ -350,7 +351,8 @@ def solve_torsion_p2(mesh: Mesh, method: str = "auto", nodes: P2Nodes | None = N
     w -= (mvec @ w) / total
     ixx, iyy, _ = p1.second_moments(p, t, area)
     ip = float(ixx.sum() + iyy.sum())
-    j_hi = ip - float(w @ (k @ w))
+    # bound for any approximate w (see fem.torsion): Ip - 2 f.w + a(w, w)
+    j_hi = ip - 2.0 * float(f @ w) + float(w @ (k @ w))
 
     eta2 = element_indicators(p, t6, area, lgrad, phi, w)
     log.debug("P2: %d nodes, J in [%.10g, %.10g]", n, j_lo, j_hi)
@@ -372,7 +374,15 @@ def solve_torsion_p2(mesh: Mesh, method: str = "auto", nodes: P2Nodes | None = N
     )
 
 
-def _solve_amg(a, a_pre, b, rtol: float = 1e-12) -> np.ndarray:
+def _solve_amg(a, a_pre, b, rtol: float = 1e-9) -> np.ndarray:
+    """CG on ``a`` preconditioned with AMG of ``a_pre``, BLAS on one thread (see linsolve)."""
+    from threadpoolctl import threadpool_limits
+
+    with threadpool_limits(limits=1, user_api="blas"):
+        return _solve_amg_inner(a, a_pre, b, rtol)
+
+
+def _solve_amg_inner(a, a_pre, b, rtol: float) -> np.ndarray:
     """CG on ``a`` preconditioned with smoothed aggregation of ``a_pre``.
 
     The true residual is checked: above ``1e3 * rtol`` relative raises

@@ -42,8 +42,8 @@ from ..shapes.compose import placed
 from ..shapes.registry import KINDS, build, suggest
 from . import read_section, register
 
-__all__ = ["ShapeFile", "load_shapefile", "read_shapefile", "settings_for",
-           "TOP_KEYS", "PART_KEYS", "MESH_KEYS", "SOLVE_KEYS", "SPECIAL_KINDS"]
+__all__ = ["ShapeFile", "load_shapefile", "shapefile_from_document", "read_shapefile",
+           "settings_for", "TOP_KEYS", "PART_KEYS", "MESH_KEYS", "SOLVE_KEYS", "SPECIAL_KINDS"]
 
 #: top-level keys and what they hold
 TOP_KEYS = {
@@ -233,8 +233,18 @@ def load_shapefile(path, units: str | None = None) -> ShapeFile:
         Length unit to assume when the file has no ``units`` key (default mm).
     """
     path = Path(path)
+    return shapefile_from_document(_load_toml(path), path, units)
+
+
+def shapefile_from_document(doc: dict, path, units: str | None = None) -> ShapeFile:
+    """Build a :class:`ShapeFile` from an already parsed TOML document.
+
+    ``path`` names the file in messages and is the base of relative ``file``
+    references.  Used by :func:`load_shapefile` and by parameter sweeps, which
+    change dimensions in the document before building.
+    """
+    path = Path(path)
     where = str(path)
-    doc = _load_toml(path)
     if "segment" in doc:
         raise InputError("is a shaft file (it has [[segment]] tables), not a section",
                          where=where, fix=f"run 'soapfilm shaft {path}'")

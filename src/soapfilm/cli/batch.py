@@ -1,0 +1,199 @@
+"""``soapfilm batch``: torsion properties of many section files, in parallel.
+
+Exit status: 0 when every section was analysed, 1 when some failed (their
+rows carry the error message and are written with the others), 2 for bad
+input (nothing is run and no file is written).  The helpers here are shared
+with ``soapfilm sweep``.
+"""
+
+from __future__ import annotations
+
+import argparse
+import os
+import sys
+from pathlib import Path
+
+from ..errors import InputError
+from ..profile import LENGTH_UNITS
+from ..result import CAUTION
+from ._io import check_writable, console, write_atomic, write_json
+
+NAME = "batch"
+HELP = "analyse many section files in parallel and tabulate them (CSV, JSON)"
+
+
+def add_args(p: argparse.ArgumentParser) -> None:
+    p.add_argument("inputs", metavar="INPUT", nargs="+",
+                   help="section files (point lists .txt/.csv/.dat, shape files .toml, DXF .dxf)")
+    p.add_argument("--units", choices=sorted(LENGTH_UNITS),
+                   help="length unit of inputs without their own (default mm), and of the "
+                        "results (default: the first section's unit; others are converted)")
+    add_run_args(p)
+
+
+# --- shared with 'soapfilm sweep' ---------------------------------------------
+def add_run_args(p: argparse.ArgumentParser) -> None:
+    """Output, parallel and accuracy options of ``batch`` and ``sweep``."""
+    from .solve import add_accuracy_args
+
+    p.add_argument("--csv", metavar="OUT", help="write the rows as CSV to OUT")
+    p.add_argument("--json", metavar="OUT", help="write the rows as JSON to OUT ('-' = stdout)")
+    p.add_argument("--quiet", action="store_true", help="no terminal table or progress")
+    g = p.add_argument_group("parallel runs")
+    g.add_argument("--jobs", type=int, metavar="N",
+                   help=f"parallel worker processes (default: all {os.cpu_count()} cores; "
+                        "1 = one after the other)")
+    g.add_argument("--scheduler", metavar="ADDRESS",
+                   help="run on a Dask cluster: its scheduler address (tcp://host:8786), or "
+                        "'local' for a Dask cluster on this machine (needs soapfilm[cluster])")
+    p.add_argument("--mesh-size", type=float, metavar="H",
+                   help="element edge length in each input's unit (default: the shape file's "
+                        "[mesh] size, else from the section)")
+    add_accuracy_args(p)
+
+
+def check_run_args(args) -> None:
+    """Fail on bad options and unwritable outputs before any work."""
+    if args.jobs is not None and args.jobs < 1:
+        raise InputError(f"must be at least 1, got {args.jobs}", where="--jobs")
+    if args.mesh_size is not None and not args.mesh_size > 0:
+        raise InputError(f"must be a positive length, got {args.mesh_size}", where="--mesh-size")
+    if args.tol is not None and not 0 < args.tol < 1:
+        raise InputError(f"must be a relative accuracy between 0 and 1, got {args.tol}",
+                         where="--tol", fix="give e.g. --tol 1e-3")
+    if args.peak_tol is not None and not 0 < args.peak_tol < 1:
+        raise InputError(f"must be between 0 and 1, got {args.peak_tol}", where="--peak-tol")
+    if args.max_elements is not None and args.max_elements < 1:
+        raise InputError(f"must be at least 1, got {args.max_elements}", where="--max-elements")
+    if args.csv:
+        if args.csv == "-":
+            raise InputError("CSV goes to a file", where="--csv -", fix="give a file name")
+        check_writable(args.csv, "--csv")
+    if args.json and args.json != "-":
+        check_writable(args.json, "--json")
+    if args.scheduler is not None:
+        try:
+            import dask.distributed  # noqa: F401
+        except ImportError:
+            raise InputError("running on Dask needs dask.distributed, which is not installed",
+                             where="--scheduler", fix="pip install 'soapfilm[cluster]'") from None
+
+
+def job_options(args) -> dict:
+    """Options of every job, from the command line (None = the shape file's or default)."""
+    opts = {"units": args.units, "mesh_size": args.mesh_size, "order": args.order,
+            "tol": "auto" if args.tol is None else args.tol, "peak_tol": args.peak_tol,
+            "max_elements": args.max_elements}
+    return {k: v for k, v in opts.items() if v is not None}
+
+
+def execute(args, jobs) -> list[dict]:
+    """Run the jobs with the parallel options, showing progress on a terminal."""
+    from ..batch import run_batch
+
+    run = {"workers": args.jobs}
+    if args.scheduler is not None:
+        run.update(executor="dask", scheduler=args.scheduler)
+        if not args.debug:  # Dask's own INFO chatter is not for this terminal
+            import logging
+
+            logging.getLogger("distributed").setLevel(logging.WARNING)
+    if args.quiet or not sys.stderr.isatty():
+        return run_batch(jobs, progress=None, **run)
+    from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn, TimeElapsedColumn
+
+    con = console(stderr=True)
+    with Progress(TextColumn("{task.description}"), BarColumn(), MofNCompleteColumn(),
+                  TimeElapsedColumn(), console=con, transient=True) as bar:
+        task = bar.add_task("analysing", total=len(jobs))
+        return run_batch(jobs, progress=lambda done, total, row: bar.update(task, completed=done),
+                         **run)
+
+
+def _g(v, spec=".6g") -> str:
+    return "" if v is None else format(v, spec)
+
+
+def print_table(rows: list[dict], unit: str, con, title: str) -> None:
+    from rich import box
+    from rich.markup import escape
+    from rich.table import Table
+
+    table = Table(title=title, header_style="bold", caption_justify="left", box=box.SIMPLE_HEAD,
+                  pad_edge=False,
+                  caption=f"J in {unit}^4 (± relative half-width of the guaranteed bracket), "
+                          f"tau/T peak shear per unit torque in 1/{unit}^3, Wt in {unit}^3")
+    table.add_column("section", min_width=min(18, max(len(r["label"]) for r in rows)),
+                     overflow="fold")
+    for name in ("J", "±", "tau/T", "Wt", "J/Ip"):
+        table.add_column(name, justify="right", no_wrap=True)
+    table.add_column("note", min_width=6)
+    for r in rows:
+        note = []
+        if r.get("error"):
+            note.append("[red]failed[/]")
+        if r.get("converged") is False:
+            note.append("[yellow]not converged[/]")
+        if r.get("warnings"):
+            note.append(f"[yellow]{r['warnings']} warn.[/]")
+        half = ("" if r.get("J") is None else
+                f"{(r['J_hi'] - r['J_lo']) / (r['J_hi'] + r['J_lo']):.0e}")
+        table.add_row(escape(r["label"]), _g(r.get("J"), ".5g"), half, _g(r.get("tau_max_per_T"), ".4g"),
+                      _g(r.get("Wt"), ".5g"), _g(r.get("J_per_Ip"), ".4f"), ", ".join(note))
+    con.print(table)
+    for r in rows:
+        if r.get("error"):
+            con.print(f"[red]failed:[/] {escape(r['label'])}: {escape(r['error'])}")
+    msgs = sorted({m for r in rows for m in r.get("warning_messages", [])})
+    for m in msgs[:5]:
+        con.print(f"[bold yellow]warning:[/] {escape(m)}")
+    if len(msgs) > 5:
+        con.print(f"[yellow]... and {len(msgs) - 5} more different warnings (see --json)[/]")
+
+
+def finish(args, rows: list[dict], title: str, unit: str | None = None, input_units=None,
+           **extra) -> int:
+    """Table, output files, failure summary; return the exit status."""
+    from ..batch import csv_text, document, output_unit, rows_in_unit
+
+    unit = output_unit(rows, unit)
+    shown = rows_in_unit(rows, unit)
+    con = console(args.quiet or args.json == "-")
+    if con:
+        print_table(shown, unit, con, title)
+    if args.csv:
+        write_atomic(args.csv, csv_text(rows, unit, input_units))
+    if args.json:
+        write_json(args.json, document(rows, unit, **extra))
+    failed = [r for r in rows if r.get("error")]
+    if con:
+        con.print(f"[dim]Caution: {CAUTION}[/]")
+    if failed:
+        first = failed[0]
+        print(f"soapfilm: {len(failed)} of {len(rows)} sections failed (first: {first['label']}); "
+              "the table and output files give each error", file=sys.stderr)
+        return 1
+    return 0
+# --- end shared ----------------------------------------------------------------
+
+
+def run(args) -> int:
+    from ..batch import Job
+    from ..readers import READERS
+
+    check_run_args(args)
+    for name in args.inputs:
+        path = Path(name)
+        if not path.exists():
+            raise InputError("file not found", where=name, fix="check the path")
+        if path.is_dir():
+            raise InputError("is a folder, not a section file", where=name,
+                             fix=f"give the files, e.g. {name.rstrip('/')}/*.toml")
+        if path.suffix.lower() not in READERS:
+            raise InputError(f"unknown file type {path.suffix or '(no suffix)'!r}", where=name,
+                             fix=f"use one of {', '.join(sorted(READERS))}")
+    opts = job_options(args)
+    jobs = [Job(name, Path(name), dict(opts), {"file": name}) for name in args.inputs]
+    rows = execute(args, jobs)
+    return finish(args, rows, f"Torsion properties of {len(rows)} sections", unit=args.units,
+                  command="batch", inputs=list(args.inputs))
