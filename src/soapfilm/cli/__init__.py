@@ -18,11 +18,7 @@ from ..errors import SoapfilmError
 __all__ = ["main", "SUBCOMMANDS"]
 
 #: subcommand modules, in the order ``--help`` lists them
-<<<<<<< HEAD
-SUBCOMMANDS = ["solve", "show", "shapes", "check", "shaft"]
-=======
-SUBCOMMANDS = ["solve", "shapes", "check", "shaft", "batch", "sweep"]
->>>>>>> batch
+SUBCOMMANDS = ["solve", "show", "shapes", "check", "shaft", "batch", "sweep"]
 
 
 class _Parser(argparse.ArgumentParser):
