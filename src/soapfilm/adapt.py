@@ -188,13 +188,17 @@ def _next_mesh(mesh, fields, peak, refine_j, refine_peak, theta, h_floor) -> Mes
         marked = bulk_marked(fields.indicators, theta)
         limit[marked] = area[marked] / 2.0
     if refine_peak:
+        from scipy.spatial import cKDTree
+
         t = mesh.t[:3]
-        xc, yc = mesh.p[0, t].mean(axis=0), mesh.p[1, t].mean(axis=0)
-        dist = np.hypot(xc - peak.location[0], yc - peak.location[1])
-        closest = np.argsort(dist)[:6]  # the elements round the peak point
-        h = np.sqrt(np.mean(area[closest]) * 4 / np.sqrt(3))
-        near = dist < 4.0 * h
-        limit[near] = np.minimum(limit[near], area[near] / 4.0)
+        cent = np.column_stack([mesh.p[0, t].mean(axis=0), mesh.p[1, t].mean(axis=0)])
+        tree = cKDTree(cent)
+        spots = peak.hot if len(peak.hot) else np.array([peak.location])
+        _, nearest = tree.query(spots, k=min(6, len(cent)))  # the elements round each spot
+        h = np.sqrt(np.mean(area[nearest], axis=1) * 4 / np.sqrt(3))
+        for idx in tree.query_ball_point(spots, 4.0 * h):
+            idx = np.asarray(idx, dtype=np.int64)
+            limit[idx] = np.minimum(limit[idx], area[idx] / 4.0)
     floor = np.sqrt(3.0) / 4.0 * h_floor**2
     limit = np.where(np.isfinite(limit), np.maximum(limit, floor), limit)
     if not np.any(limit < area):  # nothing left to refine above the floor: refine uniformly

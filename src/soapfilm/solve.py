@@ -8,7 +8,7 @@ tolerance (see :mod:`soapfilm.adapt`).
 from __future__ import annotations
 
 import logging
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
@@ -25,6 +25,10 @@ from .profile import Profile
 from .result import TorsionResult
 
 __all__ = ["analyse", "result_from_mesh", "boundary_peak", "Peak", "solve_fields"]
+
+#: Boundary places whose shear is within this fraction of the peak count as
+#: candidates for it (and are refined round by the adaptive loop).
+HOT_FRACTION = 0.02
 
 log = logging.getLogger(__name__)
 
@@ -44,6 +48,7 @@ class Peak:
     location: tuple[float, float]
     value_warping: float
     near_corner: float
+    hot: np.ndarray = field(default_factory=lambda: np.zeros((0, 2)))  # near-peak places
 
 
 def solve_fields(mesh: Mesh, order: int = 1, method: str = "auto") -> TorsionFields:
@@ -115,12 +120,16 @@ def boundary_peak(
         away[:] = True
     i = int(np.flatnonzero(away)[np.argmax(tau_phi[away])])
     node = int(nodes[i])
+    # places within HOT_FRACTION of the peak: on a section with repeated features
+    # (spline roots, keyways at 120 deg) the peak may sit at any of them
+    hot = away & (tau_phi >= (1.0 - HOT_FRACTION) * tau_phi[i])
     return Peak(
         value=float(tau_phi[i]),
         node=node,
         location=(float(xy[0, i]), float(xy[1, i])),
         value_warping=float(tau_w[i]),
         near_corner=near,
+        hot=xy[:, hot].T.copy(),
     )
 
 
