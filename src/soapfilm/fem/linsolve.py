@@ -24,7 +24,7 @@ log = logging.getLogger(__name__)
 DIRECT_LIMIT = 30_000
 
 
-def solve_spd(a: sp.spmatrix, b: np.ndarray, method: str = "auto", rtol: float = 1e-9):
+def solve_spd(a: sp.spmatrix, b: np.ndarray, method: str = "auto", rtol: float = 1e-8):
     """Solve ``a x = b`` for a sparse SPD matrix (see :func:`_solve_spd`).
 
     BLAS is held to one thread meanwhile: the solvers' dense work is on
@@ -38,7 +38,7 @@ def solve_spd(a: sp.spmatrix, b: np.ndarray, method: str = "auto", rtol: float =
         return _solve_spd(a, b, method, rtol)
 
 
-def _solve_spd(a: sp.spmatrix, b: np.ndarray, method: str = "auto", rtol: float = 1e-9):
+def _solve_spd(a: sp.spmatrix, b: np.ndarray, method: str, rtol: float):
     """Solve ``a x = b`` for a sparse SPD matrix.
 
     Parameters
@@ -66,7 +66,12 @@ def _solve_spd(a: sp.spmatrix, b: np.ndarray, method: str = "auto", rtol: float 
         raise ValueError(f"unknown method {method!r}")
     import pyamg
 
-    ml = pyamg.smoothed_aggregation_solver(a, symmetry="hermitian", max_coarse=500)
+    # Jacobi-smoothed prolongation without candidate improvement: the cheapest set-up
+    # that kept the iteration count (21 at 1e-8 on a million elements, bench_core.py)
+    ml = pyamg.smoothed_aggregation_solver(
+        a, symmetry="hermitian", max_coarse=500, improve_candidates=None,
+        smooth=("jacobi", {"omega": 4.0 / 3.0}),
+    )
     cols = b.reshape(n, -1)
     out = np.empty_like(cols, dtype=np.float64)
     for j in range(cols.shape[1]):
