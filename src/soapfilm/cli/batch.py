@@ -123,12 +123,16 @@ def print_table(rows: list[dict], unit: str, con, title: str) -> None:
                   pad_edge=False,
                   caption=f"J in {unit}^4 (± relative half-width of the guaranteed bracket), "
                           f"tau/T peak shear per unit torque in 1/{unit}^3, Wt in {unit}^3")
-    table.add_column("section", min_width=min(18, max(len(r["label"]) for r in rows)),
-                     overflow="fold")
+    # file names alone when they tell the rows apart as well as the full labels do
+    labels = [r["label"] for r in rows]
+    names = [Path(lab).name or lab for lab in labels]
+    if len(set(names)) != len(set(labels)):
+        names = labels
+    table.add_column("section", min_width=min(18, max(len(n) for n in names)), overflow="fold")
     for name in ("J", "±", "tau/T", "Wt", "J/Ip"):
         table.add_column(name, justify="right", no_wrap=True)
     table.add_column("note", min_width=6)
-    for r in rows:
+    for r, shown in zip(rows, names, strict=True):
         note = []
         if r.get("error"):
             note.append("[red]failed[/]")
@@ -138,7 +142,7 @@ def print_table(rows: list[dict], unit: str, con, title: str) -> None:
             note.append(f"[yellow]{r['warnings']} warn.[/]")
         half = ("" if r.get("J") is None else
                 f"{(r['J_hi'] - r['J_lo']) / (r['J_hi'] + r['J_lo']):.0e}")
-        table.add_row(escape(r["label"]), _g(r.get("J"), ".5g"), half, _g(r.get("tau_max_per_T"), ".4g"),
+        table.add_row(escape(shown), _g(r.get("J"), ".5g"), half, _g(r.get("tau_max_per_T"), ".4g"),
                       _g(r.get("Wt"), ".5g"), _g(r.get("J_per_Ip"), ".4f"), ", ".join(note))
     con.print(table)
     for r in rows:

@@ -21,7 +21,7 @@ __all__ = ["solve_spd", "DIRECT_LIMIT"]
 log = logging.getLogger(__name__)
 
 #: Unknowns above which AMG-preconditioned CG is used instead of SuperLU.
-DIRECT_LIMIT = 30_000
+DIRECT_LIMIT = 20_000
 
 
 def solve_spd(a: sp.spmatrix, b: np.ndarray, method: str = "auto", rtol: float = 1e-8):
