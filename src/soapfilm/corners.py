@@ -83,10 +83,15 @@ def weak_concave_vertices(
     vertices, where the stress is that of the curve to within the flattening
     error.
 
+    Only vertices whose chords the mesh has split need this: where the mesh
+    is coarser than the chords, the vertex nodes are the only boundary nodes
+    there and their values are the smooth ones (see ``solve.boundary_peak``).
+
     Returns
     -------
     xy : ndarray (k, 2)
     radius : ndarray (k,)
+        A quarter of the shorter adjacent chord.
     """
     pts, rad = [], []
     for loop in profile.loops:

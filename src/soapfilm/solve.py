@@ -114,8 +114,17 @@ def boundary_peak(
     if weak is not None and len(weak[0]):
         from scipy.spatial import cKDTree
 
-        dist, idx = cKDTree(weak[0]).query(xy.T)
-        away &= dist >= weak[1][idx]
+        wxy, wrad = weak
+        # a weak vertex is skipped only where the mesh has split its chords: some
+        # boundary node lies between a quarter and two quarters of a chord from it
+        # (else the vertex nodes alone stand for the curve, with smooth values)
+        tree = cKDTree(xy.T)
+        inner = tree.query_ball_point(wxy, wrad * (1 - 1e-9), return_length=True)
+        outer = tree.query_ball_point(wxy, 2.0 * wrad, return_length=True)
+        split = outer > inner
+        if np.any(split):
+            dist, idx = cKDTree(wxy[split]).query(xy.T)
+            away &= dist >= wrad[split][idx]
     if not np.any(away):  # degenerate: every boundary node is near a corner
         away[:] = True
     i = int(np.flatnonzero(away)[np.argmax(tau_phi[away])])
