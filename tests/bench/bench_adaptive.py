@@ -24,8 +24,8 @@ import numpy as np
 from shapely.geometry import Polygon, box
 
 from soapfilm import Profile, analyse, mesh_profile, result_from_mesh
-from soapfilm.mesh import default_mesh_size
 from soapfilm.fem.p2 import uniformly_refined
+from soapfilm.mesh import default_mesh_size
 
 
 def keyed_section() -> Profile:
