@@ -262,6 +262,18 @@ def test_keyed_shaft_lines_and_arcs_equal_point_list(tmp_path):
     r_dxf = analyse(p_dxf, mesh_size=1.0)
     r_txt = analyse(read_section(txt), mesh_size=1.0)
     assert r_dxf.torsion_constant == pytest.approx(r_txt.torsion_constant, rel=1e-4)
+    # ... and as the parametric kind of a shape file (keyway depth t1 measured from the
+    # top of the circle on the centreline, DIN 6885-1), read through the same dispatcher
+    toml = tmp_path / "keyed.toml"
+    toml.write_text(
+        'units = "mm"\n[section]\nkind = "keyed_shaft"\n'
+        f'diameter = {KEYED["d"]}\nkey_width = {KEYED["b"]}\nkey_depth = {KEYED["t1"]}\n'
+        f'floor_radius = {KEYED["r"]}\n'
+    )
+    r_par = analyse(read_section(toml), mesh_size=1.0)
+    assert r_par.area == pytest.approx(r_txt.area, rel=1e-4)
+    assert r_par.torsion_constant == pytest.approx(r_txt.torsion_constant, rel=1e-4)
+    assert r_par.torsion_constant == pytest.approx(r_dxf.torsion_constant, rel=1e-4)
     # same drawing, pieces in another order and directions: same profile area
     doc2, msp2 = new_drawing()
     R, a, yf, ys = keyed_geometry(**KEYED)

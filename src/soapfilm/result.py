@@ -54,6 +54,9 @@ class TorsionResult:
         Sharp re-entrant corners (the stress is unbounded there).
     converged : bool or None
         Whether the adaptive loop met its tolerances (None: no loop was run).
+    max_shear_per_torque_warping : float or None
+        The peak shear at the same place from the warping-function field: an
+        independent cross-check of ``max_shear_per_torque``.
     """
 
     profile: Profile
@@ -71,6 +74,7 @@ class TorsionResult:
     order: int = 1
     corners: tuple = ()
     converged: bool | None = None
+    max_shear_per_torque_warping: float | None = None
 
     @property
     def units(self) -> str:
@@ -109,6 +113,7 @@ class TorsionResult:
             "torsion_constant": self.torsion_constant,
             "torsion_constant_bounds": [lo, hi],
             "max_shear_per_torque": self.max_shear_per_torque,
+            "max_shear_per_torque_cross_check": self.max_shear_per_torque_warping,
             "torsional_section_modulus": self.torsional_section_modulus,
             "peak_location": list(self.peak_location),
             "equivalent_diameter_stiffness": self.equivalent_diameter_stiffness,
@@ -142,24 +147,34 @@ class TorsionResult:
         u = self.units
         lo, hi = self.torsion_constant_bounds
         j = self.torsion_constant
+        tiny = 1e-9 * self.profile.size  # rounding noise of a coordinate
+
+        def xy(v):
+            return f"({v[0] if abs(v[0]) > tiny else 0.0:.5g}, {v[1] if abs(v[1]) > tiny else 0.0:.5g})"
+
         rows = [
             ("Area A", f"{self.area:.6g}", f"{u}^2"),
-            ("Centroid (x, y)", f"({self.centroid[0]:.5g}, {self.centroid[1]:.5g})", u),
+            ("Centroid (x, y)", xy(self.centroid), u),
             ("Polar moment Ip (about centroid)", f"{self.polar_moment:.6g}", f"{u}^4"),
             ("Torsion constant J", f"{j:.6g}", f"{u}^4"),
             ("  guaranteed bounds", f"[{lo:.6g}, {hi:.6g}]", f"{u}^4"),
             ("  relative half-width", f"{(hi - lo) / (hi + lo):.1e}", "-"),
             ("J / Ip", f"{j / self.polar_moment:.4f}", "-"),
             ("Peak shear per unit torque", f"{self.max_shear_per_torque:.6g}", f"1/{u}^3"),
-            ("  at (x, y)", f"({self.peak_location[0]:.5g}, {self.peak_location[1]:.5g})", u),
+            ("  at (x, y)", xy(self.peak_location), u),
             ("Torsional section modulus Wt", f"{self.torsional_section_modulus:.6g}", f"{u}^3"),
             ("Equivalent round dia. (stiffness)", f"{self.equivalent_diameter_stiffness:.5g}", u),
             ("Equivalent round dia. (strength)", f"{self.equivalent_diameter_strength:.5g}", u),
             ("Mesh", f"{self.mesh.nelements} triangles, {self.mesh.nnodes} nodes", f"P{self.order}"),
         ]
         err = self.estimated_relative_error.get("max_shear")
+        extra = []
+        if self.max_shear_per_torque_warping is not None:
+            extra.append(("  cross-check (warping field)",
+                          f"{self.max_shear_per_torque_warping:.6g}", f"1/{u}^3"))
         if err is not None:
-            rows.insert(9, ("  estimated relative error", f"{err:.1e}", "-"))
+            extra.append(("  estimated relative error", f"{err:.1e}", "-"))
+        rows[9:9] = extra
         return rows
 
     def _repr_html_(self) -> str:  # notebooks

@@ -198,6 +198,7 @@ def result_from_mesh(
         estimated_relative_error=errors,
         order=getattr(fields, "order", 1),
         corners=corners,
+        max_shear_per_torque_warping=peak.value_warping / j,
     )
 
 

@@ -8,9 +8,10 @@ Run:  python tests/bench/bench_adaptive.py [--repeat 3]
 
 The reference: an adaptive quadratic solve to a 2e-5 bracket and 2e-4 peak
 tolerance, whose mesh is then split uniformly twice (every triangle into four)
-and solved again with quadratic elements.  Uniform refinement: the adaptive loop's starting mesh split uniformly (each
-triangle into four) until both targets are met; the solve on the first mesh
-that meets them is timed alone (its best case: no search).
+and solved again with quadratic elements.  Uniform refinement: the adaptive
+loop's starting mesh split uniformly (each triangle into four) until both
+targets are met; the solve on the first mesh that meets them is timed alone
+(its best case: no search).
 """
 
 from __future__ import annotations
