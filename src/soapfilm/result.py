@@ -21,6 +21,16 @@ CAUTION = (
 )
 
 
+def diameter_same_stiffness(j: float) -> float:
+    """d_J = (32 J / pi)^(1/4): the solid round bar with the same torsion constant."""
+    return (32.0 * j / math.pi) ** 0.25
+
+
+def diameter_same_strength(wt: float) -> float:
+    """d_tau = (16 Wt / pi)^(1/3): the solid round bar with the same section modulus."""
+    return (16.0 * wt / math.pi) ** (1.0 / 3.0)
+
+
 @dataclass(frozen=True)
 class TorsionResult:
     """Section properties in torsion, in the profile's length unit.
@@ -94,12 +104,12 @@ class TorsionResult:
     @property
     def equivalent_diameter_stiffness(self) -> float:
         """Diameter of the round bar with the same J: (32 J / pi)^(1/4)."""
-        return (32.0 * self.torsion_constant / math.pi) ** 0.25
+        return diameter_same_stiffness(self.torsion_constant)
 
     @property
     def equivalent_diameter_strength(self) -> float:
         """Diameter of the round bar with the same Wt: (16 Wt / pi)^(1/3)."""
-        return (16.0 * self.torsional_section_modulus / math.pi) ** (1.0 / 3.0)
+        return diameter_same_strength(self.torsional_section_modulus)
 
     def to_dict(self, include_mesh: bool = True) -> dict:
         """Plain-JSON dictionary; keys are stable (later versions only add)."""

@@ -29,6 +29,7 @@ import numpy as np
 
 from .errors import InputError
 from .materials import Allowable, Material
+from .result import diameter_same_stiffness, diameter_same_strength
 
 __all__ = [
     "Section",
@@ -95,12 +96,12 @@ class Section:
     @property
     def equivalent_diameter_stiffness(self) -> float:
         """d_J = (32 J / pi)^(1/4): round bar of the same stiffness (m)."""
-        return (32.0 * self.torsion_constant / math.pi) ** 0.25
+        return diameter_same_stiffness(self.torsion_constant)
 
     @property
     def equivalent_diameter_strength(self) -> float:
         """d_tau = (16 Wt / pi)^(1/3): round bar of the same peak stress (m)."""
-        return (16.0 * self.torsional_section_modulus / math.pi) ** (1.0 / 3.0)
+        return diameter_same_strength(self.torsional_section_modulus)
 
     def kts(self, nominal_diameter: float | None = None) -> float | None:
         """Stress concentration in torsion, tau_max / (16 T / (pi d^3)).

@@ -54,6 +54,7 @@ from ..errors import SolveError
 from ..mesh import Mesh
 from . import p1
 from .linsolve import solve_spd
+from .torsion import stress_function_system
 
 __all__ = [
     "P2Nodes",
@@ -313,22 +314,9 @@ def solve_torsion_p2(mesh: Mesh, method: str = "auto", nodes: P2Nodes | None = N
         raise ValueError(f"unknown method {method!r}")
 
     # ---- stress function
-    nh = mesh.nholes
-    marker = nodes.boundary_marker
-    free = np.flatnonzero(marker == 0)
-    nfree = len(free)
-    dof = np.full(n, -1)
-    dof[free] = np.arange(nfree)
-    hole = marker >= 2
-    dof[hole] = nfree + marker[hole] - 2
-    keep = dof >= 0
-    prolong = sp.csr_matrix(
-        (np.ones(keep.sum()), (np.flatnonzero(keep), dof[keep])), shape=(n, nfree + nh)
-    )
     b = 2.0 * mvec
-    k_red = (prolong.T @ k @ prolong).tocsr()
-    b_red = prolong.T @ b
-    b_red[nfree:] += 2.0 * mesh.hole_areas
+    prolong, k_red, b_red = stress_function_system(k, b, nodes.boundary_marker, mesh.hole_areas)
+    nfree = k_red.shape[0] - mesh.nholes
     if method == "amg":
         x = _solve_amg(k_red, (prolong.T @ k_pre @ prolong).tocsr(), b_red)
     else:

@@ -79,27 +79,12 @@ def solve_torsion(mesh: Mesh, method: str = "auto") -> TorsionFields:
     k = p1.stiffness(t, area, grad, n)
 
     # ---- stress function: outer nodes fixed at 0, each hole one unknown
-    dof = np.arange(n)
-    fixed = np.zeros(n, dtype=bool)
-    fixed[mesh.loop_nodes(1)] = True
-    nh = mesh.nholes
-    hole_nodes = [mesh.loop_nodes(h + 2) for h in range(nh)]
-    for hn in hole_nodes:
-        fixed[hn] = True  # taken out of the free set; mapped to the hole unknown below
-    free = np.flatnonzero(~fixed)
-    nfree = len(free)
-    dof = np.full(n, -1)
-    dof[free] = np.arange(nfree)
-    for h, hn in enumerate(hole_nodes):
-        dof[hn] = nfree + h
-    keep = dof >= 0
-    prolong = sp.csr_matrix(
-        (np.ones(keep.sum()), (np.flatnonzero(keep), dof[keep])), shape=(n, nfree + nh)
-    )
+    marker = np.zeros(n, dtype=np.int64)
+    for mk in range(1, mesh.nholes + 2):
+        marker[mesh.loop_nodes(mk)] = mk
     b = p1.lumped_load(t, area, n, value=2.0)
-    k_red = (prolong.T @ k @ prolong).tocsr()
-    b_red = prolong.T @ b
-    b_red[nfree:] += 2.0 * mesh.hole_areas
+    prolong, k_red, b_red = stress_function_system(k, b, marker, mesh.hole_areas)
+    nfree = k_red.shape[0] - mesh.nholes
     x = solve_spd(k_red, b_red, method=method)
     phi = prolong @ x
     hole_values = x[nfree:].copy()
@@ -135,6 +120,39 @@ def solve_torsion(mesh: Mesh, method: str = "auto") -> TorsionFields:
         elem_area=area,
         elem_grad=grad,
     )
+
+
+def stress_function_system(k, b, marker, hole_areas):
+    """Reduce the stress-function problem to its unknowns (any element order).
+
+    Nodes with ``marker`` 0 are free, 1 (outer loop) are fixed at 0, and
+    ``k + 2`` (hole k) all share ONE unknown, appended after the free ones and
+    loaded by ``2 A_k``: the energy form of the condition that the circulation
+    of grad(phi) round the hole is ``2 A_k`` (Timoshenko & Goodier, 3rd ed.,
+    ch. 10, hollow sections).
+
+    Returns
+    -------
+    prolong : sparse (n, nfree + H)
+        Maps the unknowns to nodal values.
+    k_red, b_red : reduced matrix and load.
+    """
+    n = len(marker)
+    nh = len(hole_areas)
+    free = np.flatnonzero(marker == 0)
+    nfree = len(free)
+    dof = np.full(n, -1)
+    dof[free] = np.arange(nfree)
+    hole = marker >= 2
+    dof[hole] = nfree + marker[hole] - 2
+    keep = dof >= 0
+    prolong = sp.csr_matrix(
+        (np.ones(keep.sum()), (np.flatnonzero(keep), dof[keep])), shape=(n, nfree + nh)
+    )
+    k_red = (prolong.T @ k @ prolong).tocsr()
+    b_red = prolong.T @ b
+    b_red[nfree:] += 2.0 * np.asarray(hole_areas, dtype=np.float64)
+    return prolong, k_red, b_red
 
 
 def element_indicators(p, t, area, grad, phi, omega) -> np.ndarray:
