@@ -323,3 +323,25 @@ def test_yield_option_replaces_file_allowable(tmp_path):
     data = json.loads(out.read_text())
     want = 0.5 * 50 * NIST_KSI / 1.5
     assert all(s["allowable_shear_Pa"] == pytest.approx(want, rel=1e-6) for s in data["segments"])
+
+
+def test_check_report_holds_section_and_check(square, tmp_path, capsys):
+    """--report: one HTML file with the section results, the check and the caution; the
+    peak stress in it is T * tau_max/T of the square (Timoshenko & Goodier, 3rd ed.,
+    sec. 109) within 1 %."""
+    import re
+
+    out = tmp_path / "check.html"
+    code = main(["check", str(square), "--torque", "100 N*m", "--length", "0.5 m",
+                 "--material", "carbon-steel", "--report", str(out), "--quiet"])
+    assert code == 0
+    html = out.read_text()
+    assert CAUTION.split(":")[0] in html and "utilisation" in html.lower()
+    _, tau_per_t = _square_series(20.0)  # 1/mm^3
+    expected_mpa = 100e3 * tau_per_t  # N*mm * 1/mm^3 = MPa
+    cell = r"Peak shear stress at T = [^<]*</td><td class=\"num\">([0-9.]+)</td>"
+    found = [float(v) for v in re.findall(cell, html)]
+    assert found and found[0] == pytest.approx(expected_mpa, rel=1e-2)
+    assert main(["check", str(square), "--torque", "100 N*m", "--length", "0.5 m",
+                 "--material", "carbon-steel", "--report", str(tmp_path / "r.pdf")]) == 2
+    assert "HTML" in capsys.readouterr().err and not (tmp_path / "r.pdf").exists()

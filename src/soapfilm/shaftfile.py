@@ -83,6 +83,7 @@ class SectionSource:
 
         ``nominal_diameter`` and ``mesh_size`` are in metres.
         """
+        from .adapt import DEFAULT_TOL
         from .readers import read_section
         from .solve import analyse
 
@@ -99,7 +100,8 @@ class SectionSource:
             profile = read_section(path, units)
             log.info("analysing section %s", path)
             h = None if size is None else size / LENGTH_UNITS[profile.units]
-            self.cache[key] = analyse(profile, mesh_size=h)
+            # as `soapfilm solve`: adaptive to the default tolerance unless a mesh size is given
+            self.cache[key] = analyse(profile, mesh_size=h, tol=None if h else DEFAULT_TOL)
         result = self.cache[key]
         if nominal_diameter is None and nominal_diameter_hint(result) is None:
             d = shapefile_nominal_diameter(path)
@@ -110,6 +112,7 @@ class SectionSource:
     def from_outline(self, outline, holes, units: str, where: str,
                      nominal_diameter: float | None, name: str, mesh_size: float | None = None
                      ) -> tuple[Section, object]:
+        from .adapt import DEFAULT_TOL
         from .profile import Profile
         from .solve import analyse
 
@@ -126,7 +129,7 @@ class SectionSource:
                 labels=[f"{where} outline"] + [f"{where} hole {k}" for k in range(1, len(loops))])
             size = mesh_size if mesh_size is not None else self.mesh_size
             h = None if size is None else size / LENGTH_UNITS[units]
-            self.cache[key] = analyse(profile, mesh_size=h)
+            self.cache[key] = analyse(profile, mesh_size=h, tol=None if h else DEFAULT_TOL)
         result = self.cache[key]
         return section_from_result(result, nominal_diameter, name=name), result
 

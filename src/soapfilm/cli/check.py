@@ -10,7 +10,7 @@ from ..profile import LENGTH_UNITS
 from ..result import CAUTION
 from ..shaft import DEFAULT_TWIST_LIMIT, TWIST_LIMIT_NOTE, Section, SectionCheck, check_section
 from ..units import UnitSystem, parse_number, parse_quantity, unit_system
-from ._io import check_writable, console, write_json
+from ._io import check_writable, console, write_atomic, write_json
 
 NAME = "check"
 HELP = "check a bar section under a torque: peak shear, twist, stiffness, pass or fail"
@@ -128,6 +128,8 @@ def add_args(p: argparse.ArgumentParser) -> None:
     p.add_argument("--units", choices=sorted(LENGTH_UNITS),
                    help="length unit of the section file when it does not say (default mm)")
     p.add_argument("--mesh-size", metavar="H", help='element size with unit, e.g. "0.3 mm"')
+    p.add_argument("--report", metavar="OUT.html",
+                   help="self-contained HTML report: the section's results and this check")
     p.add_argument("--json", metavar="OUT", help="write results as JSON (SI base units) to OUT "
                    "('-' = stdout)")
     p.add_argument("--quiet", action="store_true", help="no terminal output")
@@ -234,6 +236,11 @@ def print_check(res: SectionCheck, mat: Material, sys: UnitSystem, twist_note: s
 def run(args) -> int:
     if args.json and args.json != "-":
         check_writable(args.json, "--json")
+    if args.report:
+        if not args.report.lower().endswith((".html", ".htm")):
+            raise InputError("the report is an HTML file", where=f"--report {args.report}",
+                             fix="end the file name in .html")
+        check_writable(args.report, "--report")
     sys_ = system_of(args)
     torque = parse_quantity(args.torque, "torque", "--torque")
     length = parse_quantity(args.length, "length", "--length")
@@ -261,15 +268,23 @@ def run(args) -> int:
         else TWIST_LIMIT_NOTE
 
     source = SectionSource(mesh_size=mesh_size)
-    section, _ = source.from_file(args.section, args.units, "SECTION", nominal_diameter=nominal)
+    section, fe_result = source.from_file(args.section, args.units, "SECTION",
+                                          nominal_diameter=nominal)
     res = check_section(section, torque, length, mat.shear_modulus, allowable, twist_limit,
                         nominal)
     con = console(args.quiet or args.json == "-")
     if con:
         print_check(res, mat, sys_, twist_note, con)
+    out = check_json(res, mat)
+    out["twist_limit_basis"] = twist_note
+    if args.report:
+        from ..report import render_report
+
+        html = render_report(fe_result, torque=torque, shaft_check=out,
+                             inputs={"section file": str(args.section),
+                                     "length": args.length, "material": mat.label})
+        write_atomic(args.report, html)
     if args.json:
-        out = check_json(res, mat)
-        out["twist_limit_basis"] = twist_note
         write_json(args.json, out)
     return 0
 
