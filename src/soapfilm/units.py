@@ -276,3 +276,13 @@ def unit_system(name: str, where: str = "--unit-system") -> UnitSystem:
         raise InputError(f"unknown unit system {name!r}", where=where,
                          fix=f"use one of {', '.join(SYSTEMS)}")
     return SYSTEMS[key]
+
+
+def parse_positive(value, kind: str, where: str) -> float | None:
+    """:func:`parse_quantity` for a value that must be above zero; None passes through."""
+    if value is None:
+        return None
+    q = parse_quantity(value, kind, where)
+    if not q > 0:
+        raise InputError("must be positive", where=where)
+    return q

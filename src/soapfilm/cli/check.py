@@ -9,7 +9,7 @@ from ..materials import CRITERIA, Allowable, Material, criterion_key, material
 from ..profile import LENGTH_UNITS
 from ..result import CAUTION
 from ..shaft import DEFAULT_TWIST_LIMIT, TWIST_LIMIT_NOTE, Section, SectionCheck, check_section
-from ..units import UnitSystem, parse_number, parse_quantity, unit_system
+from ..units import UnitSystem, parse_number, parse_positive, parse_quantity, unit_system
 from ._io import check_writable, console, write_atomic, write_json
 
 NAME = "check"
@@ -243,18 +243,9 @@ def run(args) -> int:
         check_writable(args.report, "--report")
     sys_ = system_of(args)
     torque = parse_quantity(args.torque, "torque", "--torque")
-    length = parse_quantity(args.length, "length", "--length")
-    if not length > 0:
-        raise InputError("must be positive", where="--length")
-    nominal = None if args.nominal_diameter is None else \
-        parse_quantity(args.nominal_diameter, "length", "--nominal-diameter")
-    if nominal is not None and nominal <= 0:
-        raise InputError("must be positive", where="--nominal-diameter")
-    mesh_size = None
-    if args.mesh_size is not None:
-        mesh_size = parse_quantity(args.mesh_size, "length", "--mesh-size")
-        if mesh_size <= 0:
-            raise InputError("must be positive", where="--mesh-size")
+    length = parse_positive(args.length, "length", "--length")
+    nominal = parse_positive(args.nominal_diameter, "length", "--nominal-diameter")
+    mesh_size = parse_positive(args.mesh_size, "length", "--mesh-size")
     mat = resolve_material(args)
     opts = parse_allowable_args(args)
     from ..shaftfile import SectionSource, resolve_allowable

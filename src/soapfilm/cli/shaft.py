@@ -7,7 +7,7 @@ import argparse
 from ..errors import InputError
 from ..result import CAUTION
 from ..shaft import ShaftResult, analyse_shaft
-from ..units import UnitSystem, parse_quantity
+from ..units import UnitSystem, parse_positive
 from ._io import check_writable, console, write_atomic, write_json
 from .check import (
     add_allowable_args,
@@ -188,15 +188,8 @@ def run(args) -> int:
     from ..shaftfile import CheckOptions, SectionSource, read_shaft
 
     opts = parse_allowable_args(args)
-    g = None if args.shear_modulus is None else \
-        parse_quantity(args.shear_modulus, "modulus", "--shear-modulus")
-    if g is not None and g <= 0:
-        raise InputError("must be positive", where="--shear-modulus")
-    mesh_size = None
-    if args.mesh_size is not None:
-        mesh_size = parse_quantity(args.mesh_size, "length", "--mesh-size")
-        if mesh_size <= 0:
-            raise InputError("must be positive", where="--mesh-size")
+    g = parse_positive(args.shear_modulus, "modulus", "--shear-modulus")
+    mesh_size = parse_positive(args.mesh_size, "length", "--mesh-size")
     options = CheckOptions(shear_modulus=g, material=args.material, **opts)
     model = read_shaft(args.file, options, SectionSource(mesh_size=mesh_size))
     try:
