@@ -605,3 +605,30 @@ def test_example_drawing_against_roark_keyway_fit(tmp_path):
          + (-0.0780 + 2.0618 * q - 0.5234 * q**2) * x**3)
     result = analyse(committed, mesh_size=1.0)
     assert result.torsion_constant == pytest.approx(2 * c * r**4, rel=2e-2)
+
+
+def test_block_reference_is_expanded(tmp_path):
+    """The keyed shaft drawn inside a block and inserted moved, turned and scaled by 2:
+    J is unchanged by the rigid motion and grows by 2^4 with the scale (dimensional
+    analysis, common practice); the block's layer-0 entities take the INSERT's layer."""
+    doc, msp = new_drawing()
+    blk = doc.blocks.new("SHAFT")
+    draw_keyed_shaft(blk, **KEYED)  # entities on layer 0 inside the block
+    msp.add_blockref("SHAFT", (120.0, -40.0), dxfattribs={"layer": "OUTLINE", "rotation": 30.0})
+    msp.add_line((0, 0), (300, 0), dxfattribs={"layer": "CENTRE"})
+    path = save(doc, tmp_path, "block.dxf")
+    direct_doc, direct_msp = new_drawing()
+    draw_keyed_shaft(direct_msp, **KEYED)
+    ref = analyse(read_dxf(save(direct_doc, tmp_path, "direct.dxf")), mesh_size=2.0)
+    placed = analyse(read_dxf(path, layers=["OUTLINE"]), mesh_size=2.0)
+    assert placed.torsion_constant == pytest.approx(ref.torsion_constant, rel=1e-4)
+    assert placed.centroid[0] == pytest.approx(120.0, abs=1.0)
+
+    doc2, msp2 = new_drawing()
+    blk2 = doc2.blocks.new("SHAFT")
+    draw_keyed_shaft(blk2, **KEYED)
+    msp2.add_blockref("SHAFT", (0.0, 0.0), dxfattribs={"xscale": 2.0, "yscale": 2.0})
+    big = analyse(read_dxf(save(doc2, tmp_path, "big.dxf")), mesh_size=4.0)
+    assert big.torsion_constant == pytest.approx(16.0 * ref.torsion_constant, rel=1e-4)
+    with pytest.raises(InputError, match="OUTLINE|layer"):
+        read_dxf(path, layers=["CENTRE"])  # a lone line: not a section

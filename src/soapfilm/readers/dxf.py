@@ -6,9 +6,12 @@ partial) and SPLINE -- flattens the curved ones to polylines, chains the
 pieces into closed loops by matching their end points, and builds a
 :class:`~soapfilm.profile.Profile`: the loop that encloses all the others is
 the outside, the loops directly inside it are holes.  Everything else in the
-drawing (TEXT, MTEXT, DIMENSION, HATCH, INSERT, POINT ...) is not section
+drawing (TEXT, MTEXT, DIMENSION, HATCH, POINT ...) is not section
 geometry: it is skipped with a logged warning.  Block references (INSERT) are
-not expanded.
+expanded into their transformed entities (nested blocks too); an entity on
+layer 0 inside a block takes the layer of its INSERT, as CAD programs draw it,
+and is named in messages by the INSERT's handle and its place in the block
+(``#2F.3``).
 
 Flattening and chord tolerance
 ------------------------------
@@ -365,7 +368,7 @@ def _select(doc, layers: Sequence[str] | None, where: str):
                 fix=f"layers with entities: {', '.join(used) or '(none)'}",
             )
     geometry, skipped = [], Counter()
-    for e in msp:
+    for e in _expanded(msp):
         if wanted is not None and e.dxf.layer.lower() not in wanted:
             continue
         if e.dxftype() in GEOMETRY:
@@ -373,6 +376,23 @@ def _select(doc, layers: Sequence[str] | None, where: str):
         else:
             skipped[e.dxftype()] += 1
     return geometry, skipped, used
+
+
+def _expanded(entities, depth: int = 0):
+    """The entities, with block references replaced by their (transformed) contents."""
+    for e in entities:
+        if e.dxftype() != "INSERT" or depth >= _MAX_BLOCK_DEPTH:
+            yield e
+            continue
+        for i, ve in enumerate(e.virtual_entities()):
+            ve.dxf.handle = f"{e.dxf.handle}.{i}"
+            if ve.dxf.layer == "0":
+                ve.dxf.layer = e.dxf.layer
+            yield from _expanded([ve], depth + 1)
+
+
+#: Nesting depth of block references expanded (deeper ones are skipped as INSERTs).
+_MAX_BLOCK_DEPTH = 8
 
 
 # --------------------------------------------------------------------- checks
@@ -665,7 +685,7 @@ def read_dxf(
     on = f" on layer(s) {', '.join(layers)}" if layers else ""
     if skipped:
         what = ", ".join(f"{n} {t}" for t, n in sorted(skipped.items()))
-        note = " (block references are not expanded: explode them if they hold the outline)" \
+        note = f" (block references nested deeper than {_MAX_BLOCK_DEPTH} are not expanded)" \
             if "INSERT" in skipped else ""
         log.warning("%s: ignored entities that are not section geometry%s: %s%s",
                     where, on, what, note)

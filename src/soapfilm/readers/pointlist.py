@@ -43,7 +43,8 @@ def parse_pointlist(text: str, where: str) -> tuple[list[list[tuple[float, float
             raise InputError(
                 f"expected two numbers 'x y' or 'x,y', got {raw.strip()!r}",
                 where=f"{where}:{lineno}",
-                fix="one point per line; '#' starts a comment; a blank line ends a loop",
+                fix="one point per line; '#' starts a comment (put it before a header line); "
+                    "a blank line ends a loop",
             ) from None
         if not (math.isfinite(x) and math.isfinite(y)):
             raise InputError(
