@@ -27,7 +27,6 @@ References
 
 from __future__ import annotations
 
-import dataclasses
 import logging
 from collections.abc import Callable
 
@@ -162,12 +161,7 @@ def refine_until(
         mesh = _next_mesh(mesh, fields, peak, gap > tol, perr > peak_tol, theta, h_floor)
     else:
         warnings.append(f"tolerance not met after {max_steps} refinement steps")
-    return _finish(profile, mesh, order, corner_tol_deg, fields, peak, warnings, history, converged)
-
-
-def _finish(profile, mesh, order, corner_tol_deg, fields, peak, warnings, history, converged):
-
-    res = result_from_mesh(
+    return result_from_mesh(
         profile,
         mesh,
         order=order,
@@ -177,8 +171,8 @@ def _finish(profile, mesh, order, corner_tol_deg, fields, peak, warnings, histor
         warnings=tuple(warnings),
         refinement=tuple(history),
         max_shear_error=history[-1]["max_shear_error"],
+        converged=converged,
     )
-    return dataclasses.replace(res, converged=converged)
 
 
 def _next_mesh(mesh, fields, peak, refine_j, refine_peak, theta, h_floor) -> Mesh:

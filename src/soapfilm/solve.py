@@ -167,6 +167,7 @@ def result_from_mesh(
     warnings: tuple[str, ...] = (),
     refinement: tuple[dict, ...] = (),
     max_shear_error: float | None = None,
+    converged: bool | None = None,
 ) -> TorsionResult:
     """Solve both problems on a given mesh (unless ``fields`` are given) and assemble the result."""
     corners = reentrant_corners(profile, corner_tol_deg)
@@ -199,6 +200,7 @@ def result_from_mesh(
         order=getattr(fields, "order", 1),
         corners=corners,
         max_shear_per_torque_warping=peak.value_warping / j,
+        converged=converged,
     )
 
 

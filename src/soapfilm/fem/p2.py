@@ -54,7 +54,7 @@ from ..errors import SolveError
 from ..mesh import Mesh
 from . import p1
 from .linsolve import solve_spd
-from .torsion import stress_function_system
+from .torsion import section_centroid, stress_function_system
 
 __all__ = [
     "P2Nodes",
@@ -296,10 +296,7 @@ def solve_torsion_p2(mesh: Mesh, method: str = "auto", nodes: P2Nodes | None = N
     n = nodes.nnodes
     if method == "auto":
         method = "direct" if n <= P2_DIRECT_LIMIT else "amg"
-    area0, _ = p1.geometry(mesh.p, t)
-    total = float(area0.sum())
-    xc, yc = mesh.p[0, t].mean(axis=0), mesh.p[1, t].mean(axis=0)
-    origin = np.array([float(area0 @ xc) / total, float(area0 @ yc) / total])
+    total, origin = section_centroid(mesh.p, t)
     p = nodes.p6 - origin[:, None]
     area, lgrad = p1.geometry(p, t)
     k = stiffness(t6, area, lgrad, n)

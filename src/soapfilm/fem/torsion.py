@@ -60,7 +60,9 @@ class TorsionFields:
     elem_grad: np.ndarray  # (2, 3, M)
 
 
-def _section_integrals(p, t, area):
+def section_centroid(p, t) -> tuple[float, np.ndarray]:
+    """Area and centroid of the meshed section (exact for straight-sided triangles)."""
+    area, _ = p1.geometry(p, t)
     a = float(area.sum())
     xc = p[0, t].mean(axis=0)
     yc = p[1, t].mean(axis=0)
@@ -72,8 +74,7 @@ def solve_torsion(mesh: Mesh, method: str = "auto") -> TorsionFields:
     """Solve the stress-function and warping-function problems on ``mesh``."""
     t = mesh.t
     n = mesh.nnodes
-    area0, _ = p1.geometry(mesh.p, t)
-    total, origin = _section_integrals(mesh.p, t, area0)
+    total, origin = section_centroid(mesh.p, t)
     p = mesh.p - origin[:, None]
     area, grad = p1.geometry(p, t)
     k = p1.stiffness(t, area, grad, n)
