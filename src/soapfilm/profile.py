@@ -19,6 +19,8 @@ import shapely
 from shapely.geometry import LinearRing, Polygon
 
 from .errors import GeometryError
+from .geometry.curves import Curve
+from .geometry.edges import tag_edges
 
 __all__ = ["Profile", "LENGTH_UNITS"]
 
@@ -31,26 +33,43 @@ def _signed_area(xy: np.ndarray) -> float:
     return 0.5 * float(np.dot(x, np.roll(y, -1)) - np.dot(np.roll(x, -1), y))
 
 
-def _clean_loop(xy, label: str, tol: float) -> np.ndarray:
-    """Drop the closing point and repeated or nearly repeated vertices."""
+def _clean_loop(xy, label: str, tol: float, tags=None) -> tuple[np.ndarray, np.ndarray]:
+    """Drop the closing point and repeated or nearly repeated vertices.
+
+    ``tags`` (one curve index per edge, -1 straight) follow: the edge kept
+    after a run of repeated vertices is the one leaving the last of them.
+    """
     xy = np.asarray(xy, dtype=np.float64)
     if xy.ndim != 2 or xy.shape[1] != 2:
         raise GeometryError(f"{label} must be a list of (x, y) points, got shape {xy.shape}")
     if not np.all(np.isfinite(xy)):
         raise GeometryError(f"{label} has a non-finite coordinate", fix="give finite numbers")
+    tags = np.full(len(xy), -1, dtype=np.int64) if tags is None else np.asarray(tags, np.int64)
+    if len(tags) != len(xy):
+        raise GeometryError(f"{label}: {len(tags)} edge tags for {len(xy)} points")
     keep = [0] if len(xy) else []
+    out_tag = [tags[0]] if len(xy) else []
     for i in range(1, len(xy)):
         if np.hypot(*(xy[i] - xy[keep[-1]])) > tol:
             keep.append(i)
+            out_tag.append(tags[i])
+        else:
+            out_tag[-1] = tags[i]
     xy = xy[keep]
+    tg = np.asarray(out_tag, dtype=np.int64)
     while len(xy) > 1 and np.hypot(*(xy[-1] - xy[0])) <= tol:
-        xy = xy[:-1]
+        xy, tg = xy[:-1], tg[:-1]
     if len(xy) < 3:
         raise GeometryError(
             f"{label} has {len(xy)} distinct point(s); a loop needs at least 3",
             fix="add points or join it to the loop it belongs to",
         )
-    return xy
+    return xy, tg
+
+
+def _reversed_tags(tags: np.ndarray) -> np.ndarray:
+    """Edge tags of a loop whose vertex order is reversed (edge j <- edge n-2-j)."""
+    return np.roll(tags[::-1], -1)
 
 
 def _where_invalid(geom) -> str:
@@ -79,6 +98,10 @@ class Profile:
     units: str = "mm"
     name: str = ""
     labels: tuple[str, ...] = field(default=(), compare=False, repr=False)
+    #: exact curves the outline's curved edges lie on
+    curves: tuple[Curve, ...] = field(default=(), compare=False, repr=False)
+    #: per loop (outer first), the curve index of each edge (-1 straight); () = all straight
+    edge_curves: tuple[np.ndarray, ...] = field(default=(), compare=False, repr=False)
 
     def __post_init__(self):
         outer = np.ascontiguousarray(self.outer, dtype=np.float64)
@@ -88,6 +111,19 @@ class Profile:
             h.setflags(write=False)
         object.__setattr__(self, "outer", outer)
         object.__setattr__(self, "holes", holes)
+        loops = (outer, *holes)
+        if self.edge_curves:
+            tags = tuple(np.ascontiguousarray(e, dtype=np.int64) for e in self.edge_curves)
+        else:
+            tags = tuple(np.full(len(lp), -1, dtype=np.int64) for lp in loops)
+        if len(tags) != len(loops) or any(len(e) != len(lp) for e, lp in zip(tags, loops)):
+            raise GeometryError("edge_curves must give one curve index per edge of every loop")
+        if any(len(e) and e.max() >= len(self.curves) for e in tags):
+            raise GeometryError("an edge refers to a curve that is not in the list")
+        for e in tags:
+            e.setflags(write=False)
+        object.__setattr__(self, "edge_curves", tags)
+        object.__setattr__(self, "curves", tuple(self.curves))
         if self.units not in LENGTH_UNITS:
             raise GeometryError(
                 f"unknown length unit {self.units!r}",
@@ -102,6 +138,8 @@ class Profile:
         units: str = "mm",
         name: str = "",
         labels: Sequence[str] | None = None,
+        curves: Sequence[Curve] = (),
+        edge_curves: Sequence | None = None,
     ) -> Profile:
         """Validate loops (first = outside, rest = holes) and build a Profile.
 
@@ -116,6 +154,11 @@ class Profile:
         labels : sequence of str, optional
             One label per loop used in error messages (e.g. ``"f.txt loop 2
             (lines 7-12)"``); defaults to ``"outer loop"``, ``"hole 1"`` ...
+        curves : sequence of Curve, optional
+            Exact curves that edges lie on.
+        edge_curves : sequence of array_like, optional
+            Per loop, the index into ``curves`` of each edge (vertex ``i`` to
+            ``i + 1``), -1 for straight edges.  Default: all straight (a polygon).
 
         Raises
         ------
@@ -136,7 +179,12 @@ class Profile:
             raise GeometryError("non-finite coordinate", where=labels[0], fix="give finite numbers")
         span = float(np.max(np.ptp(allpts, axis=0))) if len(allpts) else 0.0
         tol = 1e-9 * max(span, 1e-300)
-        clean = [_clean_loop(lp, labels[i], tol) for i, lp in enumerate(loops)]
+        tag_in = list(edge_curves) if edge_curves is not None else [None] * len(loops)
+        if len(tag_in) != len(loops):
+            raise GeometryError("edge_curves must have one entry per loop")
+        cleaned = [_clean_loop(lp, labels[i], tol, tag_in[i]) for i, lp in enumerate(loops)]
+        clean = [c[0] for c in cleaned]
+        tags = [c[1] for c in cleaned]
         rings = []
         for xy, label in zip(clean, labels, strict=True):
             ring = LinearRing(xy)
@@ -170,13 +218,23 @@ class Profile:
                         f"{labels[k]} overlaps or touches {labels[j]}",
                         fix="merge the two holes into one loop or separate them",
                     )
-        outer = clean[0] if _signed_area(clean[0]) > 0 else clean[0][::-1]
-        holes = tuple(h if _signed_area(h) < 0 else h[::-1] for h in clean[1:])
-        return cls(outer, holes, units=units, name=name, labels=tuple(labels))
+        want = [1.0] + [-1.0] * (len(clean) - 1)  # outer counter-clockwise, holes clockwise
+        for k in range(len(clean)):
+            if _signed_area(clean[k]) * want[k] < 0:
+                clean[k], tags[k] = clean[k][::-1], _reversed_tags(tags[k])
+        return cls(clean[0], tuple(clean[1:]), units=units, name=name, labels=tuple(labels),
+                   curves=tuple(curves), edge_curves=tuple(tags))
 
     @classmethod
-    def from_polygon(cls, polygon: Polygon, units: str = "mm", name: str = "") -> Profile:
-        """Build from a shapely Polygon (its exterior and interiors)."""
+    def from_polygon(cls, polygon: Polygon, units: str = "mm", name: str = "",
+                     curves: Sequence[Curve] = (), tol: float | None = None,
+                     sagitta: float | None = None) -> Profile:
+        """Build from a shapely Polygon (its exterior and interiors).
+
+        With ``curves``, edges lying on one of them are tagged with it and
+        their vertices snapped onto it (see :func:`soapfilm.geometry.tag_edges`;
+        ``tol`` and ``sagitta`` default to 1e-9 and 1e-4 of the size).
+        """
         if polygon.geom_type == "MultiPolygon":
             raise GeometryError(
                 f"the section falls apart into {len(polygon.geoms)} separate pieces",
@@ -184,9 +242,17 @@ class Profile:
             )
         if polygon.is_empty:
             raise GeometryError("the section is empty", fix="check the dimensions")
-        loops = [np.asarray(polygon.exterior.coords)]
-        loops += [np.asarray(r.coords) for r in polygon.interiors]
-        return cls.from_loops(loops, units=units, name=name)
+        loops = [np.asarray(polygon.exterior.coords)[:-1]]
+        loops += [np.asarray(r.coords)[:-1] for r in polygon.interiors]
+        if not curves:
+            return cls.from_loops(loops, units=units, name=name)
+        x0, y0, x1, y1 = polygon.bounds
+        span = max(x1 - x0, y1 - y0)
+        tol = 1e-9 * span if tol is None else tol
+        sagitta = 1e-4 * span if sagitta is None else sagitta
+        tagged = [tag_edges(lp, curves, tol, sagitta) for lp in loops]
+        return cls.from_loops([t[0] for t in tagged], units=units, name=name, curves=curves,
+                              edge_curves=[t[1] for t in tagged])
 
     # ------------------------------------------------------------- properties
     @property
@@ -216,11 +282,18 @@ class Profile:
 
     # -------------------------------------------------------- transformations
     def transformed(self, matrix, offset=(0.0, 0.0)) -> Profile:
-        """Return the profile mapped by ``x -> matrix @ x + offset``."""
+        """Return the profile mapped by ``x -> matrix @ x + offset`` (curves too)."""
         m = np.asarray(matrix, dtype=float)
         off = np.asarray(offset, dtype=float)
         loops = [lp @ m.T + off for lp in self.loops]
-        return Profile.from_loops(loops, units=self.units, name=self.name)
+        curves = tuple(c.moved(m, off) for c in self.curves)
+        return Profile.from_loops(loops, units=self.units, name=self.name, curves=curves,
+                                  edge_curves=self.edge_curves)
+
+    @property
+    def is_polygon(self) -> bool:
+        """True when no edge lies on a curve (a point list or a bulgeless polyline)."""
+        return not any(np.any(e >= 0) for e in self.edge_curves)
 
     def translated(self, dx: float, dy: float) -> Profile:
         """Return the profile moved by (dx, dy)."""
