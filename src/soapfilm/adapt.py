@@ -15,8 +15,8 @@ bracket width.  The loop
 The peak-shear error is estimated from the history: the larger of the last
 change and half the change before it (a geometric sequence halving its error
 each step has its remaining error about equal to its last change), and never
-below half the disagreement between the stress-function and warping-function
-values at the peak.
+below the disagreement between the stress-function and warping-function
+values at any place that could hold the peak.
 
 References
 ----------
@@ -32,7 +32,7 @@ from collections.abc import Callable
 
 import numpy as np
 
-from .corners import DEFAULT_CORNER_TOL_DEG, reentrant_corners, weak_concave_vertices
+from .corners import DEFAULT_CORNER_TOL_DEG, reentrant_corners, traced_runs
 from .errors import InputError
 from .mesh import Mesh, default_mesh_size, mesh_profile
 from .profile import Profile
@@ -59,11 +59,13 @@ def bulk_marked(eta2: np.ndarray, theta: float) -> np.ndarray:
     return marked
 
 
-def _peak_error(values: list[float], warping: float) -> float:
+def _peak_error(values: list[float], peak) -> float:
+    """Estimated relative error of the peak shear (see the module docstring)."""
     v = values[-1]
-    cross = 0.5 * abs(v - warping) / v
+    cross = float(np.max(peak.candidate_error)) if len(peak.candidate_error) else 0.0
+    cross = max(cross, abs(v - peak.value_warping) / v)
     if len(values) == 1:
-        return float("inf")  # one solve: no history yet
+        return max(cross, float("inf"))  # one solve: no history yet
     d1 = abs(values[-1] - values[-2]) / v
     d0 = abs(values[-2] - values[-3]) / v if len(values) >= 3 else d1 * 2.0
     return max(d1, 0.5 * d0, cross)
@@ -88,10 +90,10 @@ def refine_until(
     ----------
     profile : Profile
     tol : float
-        Requested relative width of the guaranteed J bracket, (J_hi - J_lo)/J.
+        Requested relative accuracy: the width of the guaranteed J bracket,
+        (J_hi - J_lo)/J, and the estimated relative error of the peak shear.
     peak_tol : float, optional
-        Requested estimated relative error of the peak shear (default
-        ``max(tol, 2e-3)``: the peak converges more slowly than J).
+        A different tolerance for the peak shear (default ``tol``).
     mesh_size : float, optional
         Element size of the starting mesh (default 2.5 x the default size).
     order : {1, 2}
@@ -105,20 +107,22 @@ def refine_until(
     Returns
     -------
     TorsionResult
-        With ``refinement`` (one entry per step) and ``converged``.
+        With ``refinement`` (one entry per step) and ``converged``; its mesh
+        and fields are those of the last step solved.
     """
-    if not (tol > 0):
-        raise InputError(f"must be a positive number, got {tol}", where="--tol")
+    if not (0 < tol < 1):
+        raise InputError(f"must be a number between 0 and 1 (a relative accuracy), got {tol}",
+                         where="--tol", fix="e.g. 1e-3 for 0.1 %")
     if peak_tol is None:
-        peak_tol = max(tol, 2e-3)
-    if not (peak_tol > 0):
-        raise InputError(f"must be a positive number, got {peak_tol}", where="--peak-tol")
+        peak_tol = tol
+    if not (0 < peak_tol < 1):
+        raise InputError(f"must be a number between 0 and 1, got {peak_tol}", where="--peak-tol")
     if max_elements < 10:
         raise InputError(f"must be at least 10, got {max_elements}", where="--max-elements")
     corners = reentrant_corners(profile, corner_tol_deg)
-    weak = weak_concave_vertices(profile, corner_tol_deg)
+    traced = tuple(traced_runs(profile))
     zone = corner_zone_radius(profile)
-    h_floor = 1e-5 * profile.size  # no element is asked to be smaller than this
+    h_floor = 1e-6 * profile.size  # no element is asked to be smaller than this
     size = mesh_size if mesh_size is not None else _COARSE_START * default_mesh_size(profile)
     mesh: Mesh = mesh_profile(profile, size)
     history: list[dict] = []
@@ -126,12 +130,15 @@ def refine_until(
     converged = False
     warnings: list[str] = []
     for step in range(max_steps):
+        if step:
+            mesh = _next_mesh(mesh, fields, peak, gap > tol, perr > peak_tol, theta, h_floor,
+                              peak_tol)
         fields = solve_fields(mesh, order=order, method=method)
-        peak = boundary_peak(mesh, fields, corners, zone, weak)
+        peak = boundary_peak(mesh, fields, corners, zone, traced)
         j = 0.5 * (fields.j_lo + fields.j_hi)
         gap = (fields.j_hi - fields.j_lo) / j
         peaks.append(peak.value)
-        perr = _peak_error(peaks, peak.value_warping)
+        perr = _peak_error(peaks, peak)
         entry = {
             "step": step,
             "elements": int(mesh.nelements),
@@ -158,7 +165,6 @@ def refine_until(
                 f"{perr:.2e} (asked {peak_tol:g}); raise --max-elements or loosen --tol"
             )
             break
-        mesh = _next_mesh(mesh, fields, peak, gap > tol, perr > peak_tol, theta, h_floor)
     else:
         warnings.append(f"tolerance not met after {max_steps} refinement steps")
     return result_from_mesh(
@@ -175,7 +181,7 @@ def refine_until(
     )
 
 
-def _next_mesh(mesh, fields, peak, refine_j, refine_peak, theta, h_floor) -> Mesh:
+def _next_mesh(mesh, fields, peak, refine_j, refine_peak, theta, h_floor, peak_tol) -> Mesh:
     area = np.abs(mesh.element_areas())
     limit = np.full(mesh.nelements, np.inf)
     if refine_j:
@@ -187,7 +193,10 @@ def _next_mesh(mesh, fields, peak, refine_j, refine_peak, theta, h_floor) -> Mes
         t = mesh.t[:3]
         cent = np.column_stack([mesh.p[0, t].mean(axis=0), mesh.p[1, t].mean(axis=0)])
         tree = cKDTree(cent)
-        spots = peak.hot if len(peak.hot) else np.array([peak.location])
+        # the places that could hold the peak and whose two fields still disagree
+        # by more than half the tolerance; the peak itself always
+        spots = peak.candidates[peak.candidate_error > 0.5 * peak_tol]
+        spots = np.vstack([np.asarray(peak.location)[None, :], spots])  # input = mesh coordinates
         _, nearest = tree.query(spots, k=min(6, len(cent)))  # the elements round each spot
         h = np.sqrt(np.mean(area[nearest], axis=1) * 4 / np.sqrt(3))
         for idx in tree.query_ball_point(spots, 4.0 * h):

@@ -1,15 +1,22 @@
-"""Sharp re-entrant corners: where the shear stress is unbounded.
+"""Sharp re-entrant corners, and polygons that trace curves.
 
-At a boundary vertex whose interior (material) angle ``alpha`` exceeds 180
-degrees the Saint-Venant stress behaves like ``r^(pi/alpha - 1)`` near the
-vertex: singular.  J still converges; the peak stress there is not a property
-of the section but of the (unmodelled) fillet radius.
+At a boundary point where the interior (material) angle ``alpha`` exceeds 180
+degrees the Saint-Venant stress behaves like ``r^(pi/alpha - 1)``: singular.
+J still converges; the peak stress there is not a property of the section but
+of the (unmodelled) fillet radius.
 
-A vertex counts as sharp when its interior angle exceeds ``180 + tol_deg``
-(default 10 degrees).  Curves flattened into polylines turn by a few degrees
-per vertex (a concave fillet flattened with nine or more chords per quarter
-turn stays below 10 degrees) and are not flagged; a coarser flattening is a
-weak corner in the polygon that is meshed, and flagging it is the right call.
+A *corner* is where two different boundary pieces meet: two straight edges,
+a straight edge and a curve, or two curves.  Its interior angle comes from
+the exact tangents of the pieces at the junction (a curve's derivative, not a
+chord), so a fillet of any radius meeting its neighbours tangentially is no
+corner, and a vertex inside one curve never is.  A corner counts as sharp when
+its interior angle exceeds ``180 + tol_deg`` (default 10 degrees).
+
+A polygon (a point list, a polyline without bulges) has only straight edges,
+so every vertex is a junction.  Where consecutive vertices turn the same way
+by small angles they *trace* a curve (a fillet given as points): those
+vertices are not reported as sharp corners but as a traced curve, with a
+warning when the peak lies there (see :func:`traced_runs`).
 
 References
 ----------
@@ -27,7 +34,8 @@ import numpy as np
 
 from .profile import Profile
 
-__all__ = ["Corner", "reentrant_corners", "DEFAULT_CORNER_TOL_DEG", "CORNER_ZONE_FRACTION"]
+__all__ = ["Corner", "TracedRun", "reentrant_corners", "traced_runs", "junction_angles",
+           "DEFAULT_CORNER_TOL_DEG", "CORNER_ZONE_FRACTION", "TRACE_MAX_TURN_DEG"]
 
 #: Interior angles above 180 + this many degrees count as sharp re-entrant corners.
 DEFAULT_CORNER_TOL_DEG = 10.0
@@ -35,6 +43,10 @@ DEFAULT_CORNER_TOL_DEG = 10.0
 #: The peak reported for a section with sharp corners is the largest at least
 #: this fraction of the section's size (largest bounding-box side) away from them.
 CORNER_ZONE_FRACTION = 0.025
+
+#: Polygon vertices turning by at most this much, next to others turning the same
+#: way, trace a curve (more than 30 degrees a point is no longer a curve drawn in points).
+TRACE_MAX_TURN_DEG = 30.0
 
 
 @dataclass(frozen=True)
@@ -50,58 +62,124 @@ class Corner:
         return f"({self.x:.5g}, {self.y:.5g}) {units}, interior angle {self.angle:.1f} deg"
 
 
-def reentrant_corners(profile: Profile, tol_deg: float = DEFAULT_CORNER_TOL_DEG) -> tuple[Corner, ...]:
-    """Vertices of the profile with interior (material) angle above 180 + tol_deg.
+@dataclass(frozen=True)
+class TracedRun:
+    """Consecutive polygon vertices that trace a curve.
 
-    The outer loop runs counter-clockwise and holes clockwise, so the material
-    is always on the left; a right turn of more than ``tol_deg`` is a sharp
-    re-entrant corner.
+    ``xy`` the vertices (k, 2); ``turn_deg`` their turns (left positive: a
+    negative turn is concave, material outside the curve); ``radius`` the mean
+    radius of the circles through consecutive vertex triples; ``chord`` the
+    shorter adjacent edge length of each vertex.
     """
-    found = []
-    for k, loop in enumerate(profile.loops):
-        d_in = loop - np.roll(loop, 1, axis=0)
-        d_out = np.roll(loop, -1, axis=0) - loop
-        cross = d_in[:, 0] * d_out[:, 1] - d_in[:, 1] * d_out[:, 0]
-        dot = np.einsum("ij,ij->i", d_in, d_out)
-        turn = np.degrees(np.arctan2(cross, dot))  # left turn positive
-        interior = 180.0 - turn
-        for i in np.flatnonzero(interior > 180.0 + tol_deg):
-            found.append(Corner(float(loop[i, 0]), float(loop[i, 1]), float(interior[i]), k))
-    return tuple(found)
+
+    loop: int
+    xy: np.ndarray
+    turn_deg: np.ndarray
+    radius: float
+    chord: np.ndarray
+    index: np.ndarray  # vertex indices in the loop
+
+    @property
+    def concave(self) -> bool:
+        return bool(np.mean(self.turn_deg) < 0)
+
+    @property
+    def points_per_quarter(self) -> float:
+        return 90.0 / max(float(np.mean(np.abs(self.turn_deg))), 1e-12)
 
 
-def weak_concave_vertices(
-    profile: Profile, tol_deg: float = DEFAULT_CORNER_TOL_DEG
-) -> tuple[np.ndarray, np.ndarray]:
-    """Slightly re-entrant vertices (flattened concave curves) and their zone radii.
+def _unit(v: np.ndarray) -> np.ndarray:
+    return v / np.maximum(np.hypot(v[:, 0], v[:, 1]), 1e-300)[:, None]
 
-    A vertex with interior angle in (180, 180 + tol_deg] is a polygon vertex on
-    what is, in the part, a smooth concave curve.  The polygon has a weak
-    singularity there (stress ~ r^(pi/alpha - 1), exponent a few hundredths),
-    so a peak taken at the vertex creeps upward under refinement.  The peak is
-    taken at least a quarter of the shorter adjacent chord away from such
-    vertices, where the stress is that of the curve to within the flattening
-    error.
 
-    Only vertices whose chords the mesh has split need this: where the mesh
-    is coarser than the chords, the vertex nodes are the only boundary nodes
-    there and their values are the smooth ones (see ``solve.boundary_peak``).
+def junction_angles(profile: Profile) -> list[tuple[int, np.ndarray, np.ndarray]]:
+    """Per loop: the junction vertices and their interior angles (degrees).
 
-    Returns
-    -------
-    xy : ndarray (k, 2)
-    radius : ndarray (k,)
-        A quarter of the shorter adjacent chord.
+    A junction is a vertex whose incoming and outgoing edges lie on different
+    pieces (curve indices differ, or both are straight).  Directions along the
+    loop come from the curves' tangents where an edge is curved.
     """
-    pts, rad = [], []
-    for loop in profile.loops:
-        d_in = loop - np.roll(loop, 1, axis=0)
-        d_out = np.roll(loop, -1, axis=0) - loop
+    out = []
+    for k, (loop, tags) in enumerate(zip(profile.loops, profile.edge_curves, strict=True)):
+        n = len(loop)
+        prev = np.roll(tags, 1)
+        junction = (prev != tags) | (tags < 0)
+        idx = np.flatnonzero(junction)
+        d_in = _unit(loop[idx] - loop[(idx - 1) % n])
+        d_out = _unit(loop[(idx + 1) % n] - loop[idx])
+        for arr, edge_curve, sign_ref in ((d_in, prev[idx], d_in), (d_out, tags[idx], d_out)):
+            for c in np.unique(edge_curve[edge_curve >= 0]):
+                sel = np.flatnonzero(edge_curve == c)
+                cv = profile.curves[c]
+                tan = _unit(cv.derivative(cv.project(loop[idx[sel]])))
+                # orient the tangent along the loop, as the chord runs
+                sgn = np.sign(np.einsum("ij,ij->i", tan, sign_ref[sel]))
+                arr[sel] = tan * np.where(sgn == 0, 1.0, sgn)[:, None]
         cross = d_in[:, 0] * d_out[:, 1] - d_in[:, 1] * d_out[:, 0]
         dot = np.einsum("ij,ij->i", d_in, d_out)
         interior = 180.0 - np.degrees(np.arctan2(cross, dot))
-        weak = (interior > 180.0 + 1e-6) & (interior <= 180.0 + tol_deg)
-        chord = np.minimum(np.hypot(*d_in.T), np.hypot(*d_out.T))
-        pts.append(loop[weak])
-        rad.append(0.25 * chord[weak])
-    return np.concatenate(pts), np.concatenate(rad)
+        out.append((k, idx, interior))
+    return out
+
+
+def traced_runs(profile: Profile, max_turn_deg: float = TRACE_MAX_TURN_DEG) -> list[TracedRun]:
+    """Runs of straight-edge polygon vertices that trace a curve.
+
+    A vertex between two straight edges belongs to a run when it turns by
+    more than 0.5 and at most ``max_turn_deg`` degrees and a neighbouring
+    vertex turns the same way within that range, with adjacent edges no more
+    than three times longer than each other (points along one smooth curve).
+    """
+    runs = []
+    for k, (loop, tags) in enumerate(zip(profile.loops, profile.edge_curves, strict=True)):
+        n = len(loop)
+        straight = (tags < 0) & (np.roll(tags, 1) < 0)
+        d_in = loop - np.roll(loop, 1, axis=0)
+        d_out = np.roll(loop, -1, axis=0) - loop
+        l_in, l_out = np.hypot(*d_in.T), np.hypot(*d_out.T)
+        turn = np.degrees(np.arctan2(d_in[:, 0] * d_out[:, 1] - d_in[:, 1] * d_out[:, 0],
+                                     np.einsum("ij,ij->i", d_in, d_out)))
+        small = straight & (np.abs(turn) > 0.5) & (np.abs(turn) <= max_turn_deg) \
+            & (np.maximum(l_in, l_out) <= 3.0 * np.minimum(l_in, l_out))
+        nxt = np.roll(np.arange(n), -1)
+        pair = small & small[nxt] & (np.sign(turn) == np.sign(turn[nxt]))  # i and i+1 together
+        member = pair | np.roll(pair, 1)
+        if not member.any():
+            continue
+        # split the members into consecutive runs (cyclically)
+        link = pair  # i linked to i + 1
+        starts = np.flatnonzero(member & ~np.roll(link, 1))
+        if not len(starts):  # the whole loop traces one curve
+            starts = np.array([0])
+        for s in starts:
+            idx = [int(s)]
+            while link[idx[-1]] and len(idx) < n and nxt[idx[-1]] != s:
+                idx.append(int(nxt[idx[-1]]))
+            ii = np.array(idx)
+            chord = np.minimum(l_in[ii], l_out[ii])
+            # radius of the circle through a vertex and its neighbours: l / (2 sin(turn))
+            rad = 0.5 * (l_in[ii] + l_out[ii]) / (2.0 * np.sin(np.radians(np.abs(turn[ii]))))
+            runs.append(TracedRun(k, loop[ii].copy(), turn[ii].copy(), float(np.mean(rad)), chord,
+                                  ii))
+    return runs
+
+
+def reentrant_corners(profile: Profile, tol_deg: float = DEFAULT_CORNER_TOL_DEG) -> tuple[Corner, ...]:
+    """Junctions of the outline with interior (material) angle above 180 + tol_deg.
+
+    The outer loop runs counter-clockwise and holes clockwise, so the material
+    is always on the left; a right turn of more than ``tol_deg`` is a sharp
+    re-entrant corner.  Vertices inside one curve, and polygon vertices that
+    trace a curve (:func:`traced_runs`), are not corners.
+    """
+    traced = [np.zeros(len(lp), dtype=bool) for lp in profile.loops]
+    for run in traced_runs(profile):
+        traced[run.loop][run.index] = True
+    found = []
+    for k, idx, interior in junction_angles(profile):
+        loop = profile.loops[k]
+        skip = traced[k][idx]
+        for j in np.flatnonzero((interior > 180.0 + tol_deg) & ~skip):
+            i = idx[j]
+            found.append(Corner(float(loop[i, 0]), float(loop[i, 1]), float(interior[j]), k))
+    return tuple(found)

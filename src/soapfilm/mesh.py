@@ -5,25 +5,38 @@ Conventions (one for the whole package):
 * ``p``  nodes, shape ``(2, N)`` float64;
 * ``t``  triangles, shape ``(3, M)`` int32, counter-clockwise;
 * ``segments`` boundary edges, shape ``(2, S)`` int32, with ``segment_markers``
-  shape ``(S,)``: 1 on the outer loop, ``k + 2`` on hole ``k`` (0-based).
+  shape ``(S,)``: 1 on the outer loop, ``k + 2`` on hole ``k`` (0-based), and
+  ``segment_curves`` shape ``(S,)``: the index into ``curves`` of the exact
+  curve the segment's end nodes lie on, -1 for a straight segment.
 
 Meshing calls Shewchuk's Triangle through the ``triangle`` package with the
 switches ``p`` (keep the outline as given: no triangle crosses a boundary
 segment), ``q30`` (no angle under 30 degrees) and ``a`` (area limit).
+
+Curves: the starting polygon has its curved runs resampled on the exact curves
+(no edge longer than the mesh size nor turning by more than
+:data:`~soapfilm.geometry.edges.MAX_TURN_DEG`).  Triangle splits boundary
+segments at their midpoints when it refines; every boundary node that lies
+inside one curve's run (both its segments on that curve) is then moved onto
+the curve, so the mesh boundary converges to the drawn curve rather than to
+the first polygon.
 """
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+import dataclasses
+from dataclasses import dataclass, field
 
 import numpy as np
 import triangle as tr
 from shapely.geometry import Polygon
 
 from .errors import InputError, SolveError
+from .geometry.curves import Curve
+from .geometry.edges import resampled_loop
 from .profile import Profile
 
-__all__ = ["Mesh", "mesh_profile", "default_mesh_size", "MIN_ANGLE"]
+__all__ = ["Mesh", "mesh_profile", "default_mesh_size", "MIN_ANGLE", "snapped_to_curves"]
 
 #: Minimum angle (degrees) asked of Triangle.
 MIN_ANGLE = 30.0
@@ -43,7 +56,10 @@ class Mesh:
     segments : ndarray (2, S) int32
     segment_markers : ndarray (S,) int32
     hole_areas : ndarray (H,) float64
-        Area enclosed by each hole loop, for the hole conditions.
+        Area enclosed by each hole loop (of the mesh polygon), for the hole conditions.
+    segment_curves : ndarray (S,) int32
+        Curve of each boundary segment (index into ``curves``), -1 straight.
+    curves : tuple of Curve
     """
 
     p: np.ndarray
@@ -51,18 +67,24 @@ class Mesh:
     segments: np.ndarray
     segment_markers: np.ndarray
     hole_areas: np.ndarray
+    segment_curves: np.ndarray | None = None
+    curves: tuple[Curve, ...] = field(default=(), compare=False, repr=False)
 
     def __post_init__(self):
+        if self.segment_curves is None:
+            object.__setattr__(self, "segment_curves", np.full(self.segments.shape[1], -1))
         for name, dtype in (
             ("p", np.float64),
             ("t", np.int32),
             ("segments", np.int32),
             ("segment_markers", np.int32),
             ("hole_areas", np.float64),
+            ("segment_curves", np.int32),
         ):
             arr = np.ascontiguousarray(getattr(self, name), dtype=dtype)
             arr.setflags(write=False)
             object.__setattr__(self, name, arr)
+        object.__setattr__(self, "curves", tuple(self.curves))
 
     @property
     def nnodes(self) -> int:
@@ -98,15 +120,57 @@ class Mesh:
         """
         max_area = np.asarray(max_area, dtype=np.float64)
         limit = np.where(np.isfinite(max_area), max_area, -1.0)  # <= 0: no limit
+        codes, table = _encoded(self.segment_markers, self.segment_curves)
         data = {
             "vertices": self.p.T.copy(),
             "triangles": self.t.T.copy(),
             "segments": self.segments.T.copy(),
-            "segment_markers": self.segment_markers.reshape(-1, 1).copy(),
+            "segment_markers": codes.reshape(-1, 1),
             "triangle_max_area": limit.reshape(-1, 1),
         }
         out = tr.triangulate(data, f"rpq{MIN_ANGLE:g}aQ")
-        return _from_triangle(out, self.hole_areas)
+        return _from_triangle(out, table, self.curves)
+
+    def curve_nodes(self) -> tuple[np.ndarray, np.ndarray]:
+        """Boundary nodes inside a curve's run (both segments on one curve) and that curve."""
+        s = self.segments
+        c = np.repeat(self.segment_curves[None, :], 2, axis=0).ravel()
+        n = self.nnodes
+        lo = np.full(n, np.iinfo(np.int32).max, dtype=np.int64)
+        hi = np.full(n, -2, dtype=np.int64)
+        np.minimum.at(lo, s.ravel(), c)
+        np.maximum.at(hi, s.ravel(), c)
+        nodes = np.flatnonzero((lo == hi) & (lo >= 0))
+        return nodes, lo[nodes]
+
+    def hole_loop_areas(self, p: np.ndarray | None = None) -> np.ndarray:
+        """Area enclosed by each hole loop of the mesh polygon (nodes ``p``, default the mesh's)."""
+        if not self.nholes:
+            return np.zeros(0)
+        p = self.p if p is None else p
+        e, mk = self.oriented_boundary()[:2]
+        h = mk >= 2
+        e, mk = e[:, h], mk[h]
+        cross = p[0, e[0]] * p[1, e[1]] - p[0, e[1]] * p[1, e[0]]
+        # material on the left: a hole loop runs clockwise, its signed area is negative
+        return -0.5 * np.bincount(mk - 2, weights=cross, minlength=self.nholes)[: self.nholes]
+
+    def oriented_boundary(self) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        """Boundary edges with the material on their left, their loop markers and curves.
+
+        Returns ``(edges (2, S), markers (S,), curves (S,))`` in the order of
+        ``segments``.
+        """
+        t = self.t[:3]
+        a = t.ravel()
+        b = t[[1, 2, 0]].ravel()  # element edges a -> b, counter-clockwise: element on the left
+        n = np.int64(self.nnodes)
+        key = np.minimum(a, b).astype(np.int64) * n + np.maximum(a, b)
+        s0, s1 = self.segments
+        skey = np.minimum(s0, s1).astype(np.int64) * n + np.maximum(s0, s1)
+        order = np.argsort(key)
+        pos = order[np.searchsorted(key[order], skey)]
+        return np.stack([a[pos], b[pos]]), self.segment_markers, self.segment_curves
 
 
 def default_mesh_size(profile: Profile) -> float:
@@ -146,37 +210,51 @@ def mesh_profile(profile: Profile, size: float | None = None) -> Mesh:
             where="--mesh-size",
             fix="choose a larger size",
         )
-    verts, segs, marks, hole_pts = [], [], [], []
+    verts, segs, marks, curv, hole_pts = [], [], [], [], []
     start = 0
-    for k, loop in enumerate(profile.loops):
+    for k, (loop, tags) in enumerate(zip(profile.loops, profile.edge_curves, strict=True)):
+        loop, tags = resampled_loop(loop, tags, profile.curves, size)
         n = len(loop)
         verts.append(loop)
         idx = np.arange(n) + start
         segs.append(np.column_stack([idx, np.roll(idx, -1)]))
         marks.append(np.full(n, 1 if k == 0 else k + 1))
+        curv.append(tags)
         start += n
         if k > 0:
             rp = Polygon(loop).representative_point()
             hole_pts.append([rp.x, rp.y])
+    codes, table = _encoded(np.concatenate(marks), np.concatenate(curv))
     data = {
         "vertices": np.concatenate(verts),
         "segments": np.concatenate(segs).astype(np.int32),
-        "segment_markers": np.concatenate(marks).astype(np.int32).reshape(-1, 1),
+        "segment_markers": codes.reshape(-1, 1),
     }
     if hole_pts:
         data["holes"] = np.array(hole_pts)
     area_text = np.format_float_positional(max_area, precision=17, unique=True, trim="-")
     out = tr.triangulate(data, f"pq{MIN_ANGLE:g}a{area_text}Q")
-    return _from_triangle(out, profile.hole_areas)
+    return _from_triangle(out, table, profile.curves)
 
 
-def _from_triangle(out: dict, hole_areas) -> Mesh:
+def _encoded(markers: np.ndarray, curves: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """One Triangle marker per (loop marker, curve) pair; Triangle passes them to split segments.
+
+    Returns the codes (1-based) and the table ``(2, K)`` of (marker, curve) per code - 1.
+    """
+    pairs = np.stack([np.asarray(markers, np.int64), np.asarray(curves, np.int64)])
+    table, inv = np.unique(pairs, axis=1, return_inverse=True)
+    return (inv.ravel() + 1).astype(np.int32), table
+
+
+def _from_triangle(out: dict, table: np.ndarray, curves: tuple[Curve, ...]) -> Mesh:
     if "triangles" not in out or len(out["triangles"]) == 0:
         raise SolveError("the mesher returned no triangles")
-    p = out["vertices"].T
+    p = out["vertices"].T.copy()
     t = out["triangles"].T
     segs = out["segments"].T
-    marks = out["segment_markers"].ravel()
+    code = out["segment_markers"].ravel().astype(np.int64) - 1
+    marks, segc = table[0, code], table[1, code]
     # drop nodes not used by any triangle (Triangle keeps input duplicates)
     used = np.zeros(p.shape[1], dtype=bool)
     used[t.ravel()] = True
@@ -188,7 +266,38 @@ def _from_triangle(out: dict, hole_areas) -> Mesh:
     if np.any(area2 < 0):
         t = np.where(area2 < 0, t[[0, 2, 1]], t)
     p, t, segs = _renumbered(p, t, segs)
-    return Mesh(p, t, segs, marks, np.asarray(hole_areas, dtype=float))
+    mesh = Mesh(p, t, segs, marks, np.zeros(int(marks.max()) - 1 if len(marks) else 0),
+                segc, curves)
+    if curves:
+        mesh = snapped_to_curves(mesh)
+    return dataclasses.replace(mesh, hole_areas=mesh.hole_loop_areas())
+
+
+def snapped_to_curves(mesh: Mesh) -> Mesh:
+    """Move the boundary nodes inside each curve's run onto the curve.
+
+    Triangle puts a node that splits a boundary segment at the segment's
+    midpoint, on the chord; the node's foot point on the curve is at most the
+    chord's sagitta away (under 1/20 of the chord for the starting polygon's
+    10-degree turns, less after each split), well inside the elements of a
+    30-degree quality mesh.
+    """
+    nodes, which = mesh.curve_nodes()
+    if not len(nodes):
+        return mesh
+    p = mesh.p.copy()
+    for c in np.unique(which):
+        sel = nodes[which == c]
+        cv = mesh.curves[c]
+        p[:, sel] = cv.point(cv.project(p[:, sel].T)).T
+    x, y = p[0, mesh.t], p[1, mesh.t]
+    area2 = (x[1] - x[0]) * (y[2] - y[0]) - (x[2] - x[0]) * (y[1] - y[0])
+    if np.any(area2 <= 0):
+        raise SolveError(
+            f"{int(np.sum(area2 <= 0))} element(s) turned inside out when boundary nodes were "
+            "put onto their curves"
+        )
+    return dataclasses.replace(mesh, p=p)
 
 
 def _interleaved(v: np.ndarray) -> np.ndarray:

@@ -16,8 +16,9 @@ from .corners import (
     CORNER_ZONE_FRACTION,
     DEFAULT_CORNER_TOL_DEG,
     Corner,
+    TracedRun,
     reentrant_corners,
-    weak_concave_vertices,
+    traced_runs,
 )
 from .fem.torsion import TorsionFields, element_gradients, recovered_gradient, solve_torsion
 from .mesh import Mesh, mesh_profile
@@ -25,10 +26,6 @@ from .profile import Profile
 from .result import TorsionResult
 
 __all__ = ["analyse", "result_from_mesh", "boundary_peak", "Peak", "solve_fields"]
-
-#: Boundary places whose shear is within this fraction of the peak count as
-#: candidates for it (and are refined round by the adaptive loop).
-HOT_FRACTION = 0.02
 
 log = logging.getLogger(__name__)
 
@@ -40,7 +37,10 @@ class Peak:
     ``value`` is from the stress function, ``value_warping`` the same place's
     cross-check from the warping function; ``near_corner`` is the largest
     value inside the zones round sharp re-entrant corners (not a property of
-    the section: the stress there is unbounded).
+    the section: the stress there is unbounded).  ``candidates`` are the
+    boundary places whose value, give or take their own two-field
+    disagreement, could be the peak (``(k, 2)`` input coordinates), with that
+    disagreement relative to the peak in ``candidate_error``.
     """
 
     value: float
@@ -48,7 +48,10 @@ class Peak:
     location: tuple[float, float]
     value_warping: float
     near_corner: float
-    hot: np.ndarray = field(default_factory=lambda: np.zeros((0, 2)))  # near-peak places
+    candidates: np.ndarray = field(default_factory=lambda: np.zeros((0, 2)))
+    candidate_error: np.ndarray = field(default_factory=lambda: np.zeros(0))
+    traced: TracedRun | None = None  # the traced curve the peak sits on (polygons only)
+    traced_spread: float = 0.0  # relative spread of the shear along that traced curve
 
 
 def solve_fields(mesh: Mesh, order: int = 1, method: str = "auto") -> TorsionFields:
@@ -96,14 +99,23 @@ def boundary_peak(
     fields: TorsionFields,
     corners: tuple[Corner, ...] = (),
     zone: float = 0.0,
-    weak: tuple[np.ndarray, np.ndarray] | None = None,
+    traced: tuple[TracedRun, ...] = (),
 ) -> Peak:
-    """Peak boundary shear, leaving out nodes near corners.
+    """Peak boundary shear: the largest recovered ``|tau|`` on the boundary.
 
-    Nodes within ``zone`` of a sharp re-entrant corner are left out (the stress
-    is unbounded there), and so are nodes within the radius of a slightly
-    re-entrant polygon vertex of a flattened concave curve (``weak``, from
-    :func:`soapfilm.corners.weak_concave_vertices`).
+    One rule for every outline: the maximum over the boundary nodes of the
+    stress-function shear, leaving out only the nodes within ``zone`` of a
+    sharp re-entrant corner (where the stress is unbounded).  Curved edges
+    have their nodes on the exact curve, so a fillet is a smooth boundary and
+    needs no other exception.
+
+    A polygon that *traces* a curve (``traced``, from
+    :func:`soapfilm.corners.traced_runs`) has a weak corner at each of its
+    points (interior angle 180 + turn, stress ~ r^(-turn/(pi + turn)) there);
+    nodes closer to such a point than a quarter of its shorter chord are left
+    out where the mesh has split the chords (DEVELOPERS.md derives why the
+    chord middles are the polygon's stand-in for the curve), and the peak
+    carries the traced run so the result can warn.
     """
     nodes, tau_phi, tau_w = boundary_shear(mesh, fields)
     xy = fields.p[:, nodes] + fields.origin[:, None]  # input coordinates (P2: midpoints too)
@@ -111,17 +123,20 @@ def boundary_peak(
     for c in corners:
         away &= np.hypot(xy[0] - c.x, xy[1] - c.y) > zone
     near = float(tau_phi[~away].max()) if np.any(~away) else 0.0
-    if weak is not None and len(weak[0]):
+    run_of = np.full(len(nodes), -1)
+    if traced:
         from scipy.spatial import cKDTree
 
-        wxy, wrad = weak
-        # a weak vertex is skipped only where the mesh has split its chords: some
-        # boundary node lies between a quarter and two quarters of a chord from it
-        # (else the vertex nodes alone stand for the curve, with smooth values)
+        wxy = np.concatenate([r.xy for r in traced])
+        wrad = 0.25 * np.concatenate([r.chord for r in traced])
+        wrun = np.concatenate([np.full(len(r.xy), i) for i, r in enumerate(traced)])
         tree = cKDTree(xy.T)
         inner = tree.query_ball_point(wxy, wrad * (1 - 1e-9), return_length=True)
         outer = tree.query_ball_point(wxy, 2.0 * wrad, return_length=True)
-        split = outer > inner
+        split = outer > inner  # some node between a quarter and half a chord away
+        dist, idx = cKDTree(wxy).query(xy.T)
+        on_run = dist <= 4.0 * wrad[idx] + 1e-12
+        run_of[on_run] = wrun[idx[on_run]]
         if np.any(split):
             dist, idx = cKDTree(wxy[split]).query(xy.T)
             away &= dist >= wrad[split][idx]
@@ -129,16 +144,24 @@ def boundary_peak(
         away[:] = True
     i = int(np.flatnonzero(away)[np.argmax(tau_phi[away])])
     node = int(nodes[i])
-    # places within HOT_FRACTION of the peak: on a section with repeated features
-    # (spline roots, keyways at 120 deg) the peak may sit at any of them
-    hot = away & (tau_phi >= (1.0 - HOT_FRACTION) * tau_phi[i])
+    err = np.abs(tau_phi - tau_w)
+    cand = away & (tau_phi + err >= tau_phi[i])
+    run = None
+    spread = 0.0
+    if run_of[i] >= 0:
+        run = traced[run_of[i]]
+        along = run_of == run_of[i]
+        spread = float((tau_phi[along].max() - tau_phi[along & away].min()) / tau_phi[i])
     return Peak(
         value=float(tau_phi[i]),
         node=node,
         location=(float(xy[0, i]), float(xy[1, i])),
         value_warping=float(tau_w[i]),
         near_corner=near,
-        hot=xy[:, hot].T.copy(),
+        candidates=xy[:, cand].T.copy(),
+        candidate_error=err[cand] / tau_phi[i],
+        traced=run,
+        traced_spread=spread,
     )
 
 
@@ -153,6 +176,31 @@ def corner_warnings(corners: tuple[Corner, ...], units: str, zone: float) -> lis
         f"largest at least {zone:.3g} {units} away from these corners; model the real fillet "
         f"radius for a meaningful peak. J is not affected."
     ]
+
+
+def traced_warnings(peak: Peak, units: str) -> list[str]:
+    """Say so when the peak sits on a curve that the outline gives as points."""
+    run = peak.traced
+    if run is None:
+        return []
+    x, y = peak.location
+    kind = "concave" if run.concave else "convex"
+    return [
+        f"the peak shear lies at ({x:.5g}, {y:.5g}) {units}, on a {kind} curve of radius about "
+        f"{run.radius:.3g} {units} that the outline traces with points ({run.points_per_quarter:.3g} "
+        f"per quarter circle): each point is a weak corner of the polygon, and along this curve the "
+        f"shear varies by {100 * peak.traced_spread:.2g} % on this mesh, so the peak may be off the "
+        f"drawn curve's value by that much. Draw the curve as an arc (DXF ARC or polyline bulge) "
+        f"or use a shape file for an exact fillet."
+    ]
+
+
+def bounds_warnings(fields: TorsionFields) -> list[str]:
+    """Warn when the J bounds hold for the mesh polygon only."""
+    if getattr(fields, "bounds_scope", "polygon") != "mesh":
+        return []
+    return ["the J bounds hold for the mesh polygon only: a curved edge is too coarse on this "
+            "mesh to bracket the drawn curve (use --tol to refine, or a smaller --mesh-size)"]
 
 
 def result_from_mesh(
@@ -175,8 +223,7 @@ def result_from_mesh(
     if fields is None:
         fields = solve_fields(mesh, order=order, method=method)
     if peak is None:
-        weak = weak_concave_vertices(profile, corner_tol_deg)
-        peak = boundary_peak(mesh, fields, corners, zone, weak)
+        peak = boundary_peak(mesh, fields, corners, zone, tuple(traced_runs(profile)))
     j_lo, j_hi = fields.j_lo, fields.j_hi
     j = 0.5 * (j_lo + j_hi)
     errors = {"torsion_constant": (j_hi - j_lo) / (j_hi + j_lo)}
@@ -194,7 +241,9 @@ def result_from_mesh(
         torsion_constant_bounds=(j_lo, j_hi),
         max_shear_per_torque=peak.value / j,
         peak_location=peak.location,
-        warnings=tuple(corner_warnings(corners, profile.units, zone)) + tuple(warnings),
+        warnings=tuple(corner_warnings(corners, profile.units, zone))
+        + tuple(traced_warnings(peak, profile.units)) + tuple(bounds_warnings(fields))
+        + tuple(warnings),
         refinement=tuple(refinement),
         estimated_relative_error=errors,
         order=getattr(fields, "order", 1),

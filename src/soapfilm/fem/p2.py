@@ -44,6 +44,8 @@ References
 
 from __future__ import annotations
 
+import dataclasses
+
 import logging
 from dataclasses import dataclass
 
@@ -579,4 +581,11 @@ def uniformly_refined(mesh: Mesh, nodes: P2Nodes | None = None) -> Mesh:
     mid = n + np.searchsorted(ekeys, skeys)
     segs = np.concatenate([np.stack([s[0], mid]), np.stack([mid, s[1]])], axis=1)
     marks = np.concatenate([mesh.segment_markers, mesh.segment_markers])
-    return Mesh(nodes.p6, t, segs, marks, mesh.hole_areas)
+    curves = np.concatenate([mesh.segment_curves, mesh.segment_curves])
+    fine = Mesh(nodes.p6, t, segs, marks, mesh.hole_areas, curves, mesh.curves)
+    if not mesh.curves:
+        return fine
+    from ..mesh import snapped_to_curves
+
+    fine = snapped_to_curves(fine)
+    return dataclasses.replace(fine, hole_areas=fine.hole_loop_areas())

@@ -36,7 +36,15 @@ from ..mesh import Mesh
 from . import p1
 from .linsolve import solve_spd
 
-__all__ = ["TorsionFields", "solve_torsion", "recovered_gradient", "element_indicators"]
+__all__ = ["TorsionFields", "solve_torsion", "recovered_gradient", "element_indicators",
+           "BOUNDS_SCOPES", "drawn_outline_bounds"]
+
+#: What the reported J bounds hold for.
+BOUNDS_SCOPES = {
+    "polygon": "the outline as given, a polygon (straight edges)",
+    "curves": "the drawn outline with its exact curves",
+    "mesh": "the mesh polygon only (the curves could not be bracketed on this mesh)",
+}
 
 
 @dataclass(frozen=True)
@@ -55,9 +63,12 @@ class TorsionFields:
     polar_moment: float
     j_lo: float
     j_hi: float
-    indicators: np.ndarray  # (M,) eta_e^2
+    indicators: np.ndarray  # (M,) eta_e^2, plus each element's share of the outline slack
     elem_area: np.ndarray  # (M,)
     elem_grad: np.ndarray  # (2, 3, M)
+    j_lo_mesh: float = float("nan")  # bounds for the mesh polygon (hypercircle pair)
+    j_hi_mesh: float = float("nan")
+    bounds_scope: str = "polygon"  # what j_lo, j_hi hold for: see BOUNDS_SCOPES
 
 
 def section_centroid(p, t) -> tuple[float, np.ndarray]:
@@ -107,6 +118,8 @@ def solve_torsion(mesh: Mesh, method: str = "auto") -> TorsionFields:
     j_hi = ip - 2.0 * float(f @ w) + float(w @ (k @ w))
 
     eta2 = element_indicators(p, t, area, grad, phi, w)
+    j_lo_d, j_hi_d, slack, scope = drawn_outline_bounds(mesh, origin, phi, hole_values, w,
+                                                        j_lo, j_hi)
     return TorsionFields(
         origin=origin,
         p=p,
@@ -115,12 +128,51 @@ def solve_torsion(mesh: Mesh, method: str = "auto") -> TorsionFields:
         hole_values=hole_values,
         area=total,
         polar_moment=ip,
-        j_lo=j_lo,
-        j_hi=j_hi,
-        indicators=eta2,
+        j_lo=j_lo_d,
+        j_hi=j_hi_d,
+        indicators=eta2 + slack,
         elem_area=area,
         elem_grad=grad,
+        j_lo_mesh=j_lo,
+        j_hi_mesh=j_hi,
+        bounds_scope=scope,
     )
+
+
+def drawn_outline_bounds(mesh: Mesh, origin, phi, hole_values, omega, j_lo, j_hi):
+    """J bounds for the drawn outline from the mesh's P1 fields (see :mod:`.outline`).
+
+    Returns ``(j_lo, j_hi, slack, scope)``: the bounds, each element's share of
+    the extra width they have over the mesh polygon's bounds (added to the
+    refinement indicators, so the loop refines where the curves need it), and
+    the :data:`BOUNDS_SCOPES` key.
+    """
+    m = mesh.nelements
+    if not np.any(mesh.segment_curves >= 0):
+        return j_lo, j_hi, np.zeros(m), "polygon"
+    from .outline import outline_polygons, p1_lower, p1_upper
+
+    poly = outline_polygons(mesh)
+    t = mesh.t[:3]
+    if not poly.ok:
+        # the mesh is too coarse for a curve somewhere: refine the boundary elements
+        slack = np.zeros(m)
+        on_b = np.zeros(mesh.nnodes, dtype=bool)
+        on_b[mesh.segments.ravel()] = True
+        hit = on_b[t].any(axis=0)
+        slack[hit] = (j_hi - j_lo) / max(int(hit.sum()), 1)
+        return j_lo, j_hi, slack, "mesh"
+    c = np.asarray(origin)[:, None]
+    lo_in, per_in = p1_lower(poly.p_in - c, t, phi, hole_values, mesh.hole_loop_areas(poly.p_in))
+    hi_out, per_out = p1_upper(poly.p_out - c, t, omega)
+    _, per_lo = p1_lower(mesh.p - c, t, phi, hole_values, mesh.hole_areas)
+    _, per_hi = p1_upper(mesh.p - c, t, omega)
+    slack = np.abs(per_lo - per_in) + np.abs(per_out - per_hi)
+    # each bound is the mesh's own plus the functional's change on the moved nodes,
+    # so rounding in the sums over all elements does not enter the difference
+    return (j_lo - (np.sum(per_lo - per_in) + 4.0 * np.dot(hole_values, mesh.hole_areas
+                                                           - mesh.hole_loop_areas(poly.p_in))),
+            j_hi + np.sum(per_out - per_hi), slack, "curves")
 
 
 def stress_function_system(k, b, marker, hole_areas):
