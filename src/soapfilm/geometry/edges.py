@@ -12,6 +12,8 @@ a straight edge.  Vertices of curved edges lie on their curve.
   fillets that offsetting makes: their centres are not known beforehand).
 * :func:`curve_runs` and :func:`resampled_loop` give the mesher a coarse
   starting polygon with every vertex on the exact curve.
+* :func:`junction_corners` finds the sharp re-entrant corners of a tagged
+  outline: only where two different pieces meet, angles from exact tangents.
 """
 
 from __future__ import annotations
@@ -24,7 +26,7 @@ import numpy as np
 from .curves import Circle, Curve, unwrapped
 
 __all__ = ["tag_edges", "find_arcs", "curve_runs", "resampled_loop", "turn_angles",
-           "MAX_TURN_DEG"]
+           "junction_corners", "MAX_TURN_DEG"]
 
 #: Largest turn of the tangent over one edge of the starting polygon of a curve.
 MAX_TURN_DEG = 10.0
@@ -76,9 +78,14 @@ def tag_edges(xy: np.ndarray, curves: Sequence[Curve], tol: float,
     nxt = np.roll(np.arange(n), -1)
     dist, _ = _closest_curve(xy, curves)
     mid = 0.5 * (xy + xy[nxt])
-    mdist, _ = _closest_curve(mid, curves)
+    mdist, mpar = _closest_curve(mid, curves)
     vtol = max(tol, sagitta)
     ok = (dist <= vtol) & (dist[:, nxt] <= vtol) & (mdist <= sagitta + tol)
+    # a chord lies on the concave side of its curve; a short straight edge that
+    # leaves a curve along its tangent (a flank after its root fillet) lies on the
+    # convex side, as close to the curve as a chord would be: keep it straight
+    for c in np.flatnonzero(ok.any(axis=1)):
+        ok[c] &= _concave_side(curves[c], mid, mpar[c]) >= -tol
     score = np.where(ok, mdist + dist + dist[:, nxt], np.inf)
     best = np.argmin(score, axis=0)
     has = np.isfinite(score[best, np.arange(n)])
@@ -86,20 +93,33 @@ def tag_edges(xy: np.ndarray, curves: Sequence[Curve], tol: float,
     return _snapped(xy, tags, curves), tags
 
 
+def _concave_side(cv: Curve, xy: np.ndarray, t: np.ndarray) -> np.ndarray:
+    """Signed offset of ``xy`` from its foot ``C(t)``: positive towards the centre of curvature."""
+    d1 = cv.derivative(t)
+    d2 = cv.second_derivative(t)
+    along = np.einsum("ij,ij->i", d2, d1) / np.maximum(np.einsum("ij,ij->i", d1, d1), 1e-300)
+    normal = d2 - along[:, None] * d1  # points to the concave side (zero where straight)
+    nrm = np.hypot(*normal.T)
+    off = np.einsum("ij,ij->i", xy - cv.point(t), normal)
+    return np.where(nrm > 0, off / np.where(nrm > 0, nrm, 1.0), 0.0)
+
+
 def _snapped(xy: np.ndarray, tags: np.ndarray, curves: Sequence[Curve]) -> np.ndarray:
     """Move vertices of curved edges onto their curves (junctions onto both)."""
     n = len(xy)
     out = xy.copy()
     prev = np.roll(tags, 1)  # curve of the edge arriving at vertex i
-    for i in range(n):
+    inside = (prev == tags) & (tags >= 0)  # vertices within one curve: projected together
+    for c in np.unique(tags[inside]):
+        sel = inside & (tags == c)
+        cv = curves[c]
+        out[sel] = cv.point(cv.project(xy[sel]))
+    for i in np.flatnonzero(~inside):
         a, b = int(prev[i]), int(tags[i])
         if a < 0 and b < 0:
             continue
-        if a >= 0 and b >= 0 and a != b:
+        if a >= 0 and b >= 0:
             out[i] = _intersection(curves[a], curves[b], xy[i])
-        elif a >= 0 and b >= 0:
-            cv = curves[a]
-            out[i] = cv.point(cv.project(xy[i:i + 1]))[0]
         else:
             # one curve and one straight edge: slide along the straight edge onto the curve
             cv = curves[a if a >= 0 else b]
@@ -111,16 +131,20 @@ def _snapped(xy: np.ndarray, tags: np.ndarray, curves: Sequence[Curve]) -> np.nd
 def _intersection(c1: Curve, c2: Curve, guess: np.ndarray) -> np.ndarray:
     """Intersection of two curves near ``guess`` (Newton in both parameters)."""
     g = guess[None, :]
+    scale = 1.0 + np.abs(guess).max()
     t1, t2 = c1.project(g), c2.project(g)
+    r = (c1.point(t1) - c2.point(t2))[0]
     for _ in range(12):
-        r = (c1.point(t1) - c2.point(t2))[0]
+        if np.hypot(*r) < 1e-13 * scale:
+            break  # on both already (a tangent junction built exactly needs no Newton)
         j = np.column_stack([c1.derivative(t1)[0], -c2.derivative(t2)[0]])
         if abs(np.linalg.det(j)) < 1e-14 * (np.abs(j).max() ** 2 + 1e-300):
             break  # tangent curves: the guess projected is as good as it gets
         d = np.linalg.solve(j, r)
-        t1, t2 = t1 - d[0], t2 - d[1]
-        if np.hypot(*r) < 1e-15 * (1.0 + np.abs(guess).max()):
-            break
+        r_new = (c1.point(t1 - d[0]) - c2.point(t2 - d[1]))[0]
+        if np.hypot(*r_new) >= np.hypot(*r):
+            break  # no progress (nearly tangent curves): keep the better point
+        t1, t2, r = t1 - d[0], t2 - d[1], r_new
     p = 0.5 * (c1.point(t1)[0] + c2.point(t2)[0])
     if np.hypot(*(p - guess)) > 1e3 * (np.hypot(*(c1.point(c1.project(g))[0] - guess)) + 1e-12):
         return c1.point(c1.project(g))[0]  # Newton went astray: fall back to the projection
@@ -134,17 +158,26 @@ def _line_meets(cv: Curve, anchor: np.ndarray, guess: np.ndarray) -> np.ndarray:
     if nrm == 0:
         return guess
     d = d / nrm
+    scale = 1.0 + np.abs(guess).max()
     t = cv.project(guess[None, :])
-    for _ in range(12):
+
+    def off_line(t):
         p = cv.point(t)[0]
-        f = (p[0] - anchor[0]) * d[1] - (p[1] - anchor[1]) * d[0]
+        return (p[0] - anchor[0]) * d[1] - (p[1] - anchor[1]) * d[0]
+
+    f = off_line(t)
+    for _ in range(12):
+        if abs(f) < 1e-13 * scale:
+            break  # on both already (a tangent junction built exactly needs no Newton)
         dp = cv.derivative(t)[0]
         df = dp[0] * d[1] - dp[1] * d[0]
-        if abs(df) < 1e-300:
-            break
-        t = t - f / df
-        if abs(f) < 1e-15 * (1.0 + np.abs(guess).max()):
-            break
+        if abs(df) <= 1e-8 * np.hypot(*dp):
+            break  # the line touches the curve here: the projection is the answer
+        t_new = t - f / df
+        f_new = off_line(t_new)
+        if abs(f_new) >= abs(f):
+            break  # no progress (near tangency): keep the better point
+        t, f = t_new, f_new
     p = cv.point(t)[0]
     if np.hypot(*(p - guess)) > 0.5 * nrm:
         return cv.point(cv.project(guess[None, :]))[0]
@@ -307,3 +340,80 @@ def resampled_loop(xy: np.ndarray, edge_curve: np.ndarray, curves: Sequence[Curv
             new_xy.append(pts)
             new_ec.append(np.full(len(pts), c))
     return np.vstack(new_xy), np.concatenate(new_ec).astype(np.int64)
+
+
+def _unit_tangents(cv: Curve, xy: np.ndarray, toward: np.ndarray) -> np.ndarray:
+    """Unit tangents of ``cv`` at the feet of ``xy``, each pointing along ``toward``.
+
+    Where the derivative vanishes (an involute at its base circle) the limit
+    direction is taken from parameters a hair to either side.
+    """
+    t = cv.project(xy)
+    d = cv.derivative(t)
+    flat = np.hypot(*d.T) <= 1e-12 * (np.hypot(*cv.second_derivative(t).T) + 1e-300)
+    if np.any(flat):
+        h = 1e-7 * (1.0 + np.abs(t[flat]))
+        plus, minus = cv.derivative(t[flat] + h), cv.derivative(t[flat] - h)
+        tw = toward[flat]
+        use_plus = (np.abs(np.einsum("ij,ij->i", plus, tw))
+                    >= np.abs(np.einsum("ij,ij->i", minus, tw)))
+        d[flat] = np.where(use_plus[:, None], plus, minus)
+    d = np.where((np.einsum("ij,ij->i", d, toward) < 0)[:, None], -d, d)
+    nrm = np.hypot(*d.T)
+    tw_n = toward / np.maximum(np.hypot(*toward.T), 1e-300)[:, None]
+    return np.where((nrm > 0)[:, None], d / np.where(nrm > 0, nrm, 1.0)[:, None], tw_n)
+
+
+def _directions(xy: np.ndarray, tags: np.ndarray, chords: np.ndarray,
+                curves: Sequence[Curve]) -> np.ndarray:
+    """Unit directions at points ``xy``: the chord where ``tags`` < 0, else the curve's tangent."""
+    out = chords / np.maximum(np.hypot(*chords.T), 1e-300)[:, None]
+    for c in np.unique(tags[tags >= 0]):
+        sel = tags == c
+        out[sel] = _unit_tangents(curves[c], xy[sel], chords[sel])
+    return out
+
+
+def junction_corners(profile, tol_deg: float = 10.0) -> list[tuple[int, int, float]]:
+    """Sharp re-entrant corners of a tagged outline, from the exact tangents.
+
+    A corner can only sit where two different pieces meet: a vertex whose
+    incoming and outgoing edges lie on different curves, or on a curve and a
+    straight edge, or are both straight.  Vertices inside one curve (the
+    flattening of a fillet or an arc) never count, however coarse the
+    flattening.  The tangent of a curved edge at the vertex is the curve's
+    derivative there, turned to run along the loop; a straight edge's is its
+    direction.  The material is on the left of every loop (outer loop
+    counter-clockwise, holes clockwise), so the interior angle is
+    ``180 - left turn``.
+
+    Parameters
+    ----------
+    profile : Profile
+        Anything with ``loops``, ``edge_curves`` and ``curves``.
+    tol_deg : float
+        A corner is sharp when its interior angle exceeds ``180 + tol_deg``.
+
+    Returns
+    -------
+    list of (loop, vertex, interior angle in degrees)
+        ``loop`` 0 is the outer loop, ``k`` hole ``k``.
+    """
+    found: list[tuple[int, int, float]] = []
+    curves = profile.curves
+    for k, (xy, ec) in enumerate(zip(profile.loops, profile.edge_curves, strict=True)):
+        ec = np.asarray(ec)
+        prev = np.roll(ec, 1)
+        idx = np.flatnonzero((ec != prev) | (ec < 0))  # junctions of two pieces
+        if not len(idx):
+            continue
+        p = xy[idx]
+        m = len(idx)  # incoming and outgoing directions together: one projection per curve
+        uv = _directions(np.concatenate([p, p]), np.concatenate([prev[idx], ec[idx]]),
+                         np.concatenate([p - xy[idx - 1], xy[(idx + 1) % len(xy)] - p]), curves)
+        u, v = uv[:m], uv[m:]
+        cross = u[:, 0] * v[:, 1] - u[:, 1] * v[:, 0]
+        interior = 180.0 - np.degrees(np.arctan2(cross, np.einsum("ij,ij->i", u, v)))
+        found += [(k, int(i), float(a)) for i, a in zip(idx, interior, strict=True)
+                  if a > 180.0 + tol_deg]
+    return found

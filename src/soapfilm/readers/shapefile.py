@@ -13,7 +13,8 @@ section or part is one of
   to the shape file,
 
 and may be placed with ``rotate`` (degrees, about the origin) and
-``position = [x, y]`` (applied after the rotation)::
+``position = [x, y]`` (applied after the rotation).  The section keeps the
+exact curves of its parts (arcs, fillets, flanks), moved with them::
 
     title = "Feed roller shaft"
     units = "mm"
@@ -37,8 +38,7 @@ from shapely.geometry import Polygon
 
 from ..errors import InputError
 from ..profile import LENGTH_UNITS, Profile
-from ..shapes._geom import to_profile
-from ..shapes.compose import placed
+from ..shapes.compose import combined, placed
 from ..shapes.registry import KINDS, build, suggest
 from . import read_section, register
 
@@ -280,6 +280,7 @@ def shapefile_from_document(doc: dict, path, units: str | None = None) -> ShapeF
         if not isinstance(parts, list) or not parts:
             raise InputError("part must be a list of [[part]] tables", where=where)
         geom: Polygon | None = None
+        used: list[Profile] = []
         for i, tab in enumerate(parts, start=1):
             at = f"{where} [[part]] {i}"
             action = tab.get("action", "add") if isinstance(tab, dict) else "add"
@@ -289,7 +290,9 @@ def shapefile_from_document(doc: dict, path, units: str | None = None) -> ShapeF
             if i == 1 and action == "cut":
                 raise InputError("the first part cannot be a cut", where=at,
                                  fix="start with the part the others are added to or cut from")
-            poly = _part(tab, at, base, u, chord, composite=True).polygon
+            part = _part(tab, at, base, u, chord, composite=True)
+            used.append(part)
+            poly = part.polygon
             geom = poly if geom is None else (
                 geom.union(poly) if action == "add" else geom.difference(poly))
         if geom.is_empty:
@@ -298,11 +301,12 @@ def shapefile_from_document(doc: dict, path, units: str | None = None) -> ShapeF
             raise InputError(f"the parts make {len(geom.geoms)} separate pieces", where=where,
                              fix="a bar section must be one connected region: let parts overlap")
         try:
-            prof = to_profile(geom, "composition", u)
+            prof = combined(geom, used, "composition", u)
         except InputError as exc:
             raise InputError(f"the combined parts: {exc.what}", where=where, fix=exc.fix) from None
     name = title or path.stem
-    return ShapeFile(profile=Profile.from_loops(prof.loops, units=u, name=name),
+    return ShapeFile(profile=Profile.from_loops(prof.loops, units=u, name=name, curves=prof.curves,
+                                                edge_curves=prof.edge_curves),
                      title=title, settings=settings, path=path)
 
 

@@ -3,9 +3,12 @@
 Every generator is a pure function of its dimensions returning a validated
 :class:`~soapfilm.profile.Profile`; impossible dimensions raise
 :class:`~soapfilm.errors.InputError` naming the parameter and the fix.
-Curves are flattened to polylines with a chord tolerance (keyword ``chord``,
-a length; default ``1e-5`` times the shape's size, which keeps the geometric
-error in J below 1e-4: see :mod:`soapfilm.shapes._geom`).
+Curved edges carry the exact curve they lie on (``profile.curves``,
+``profile.edge_curves``): circles, the ellipse, involute flanks and every
+fillet, so the mesh follows the drawn outline.  The polygon itself flattens
+them with a chord tolerance (keyword ``chord``, a length; default ``1e-5``
+times the shape's size: see :mod:`soapfilm.shapes._geom`).  Compositions keep
+the curves of their parts.
 
 >>> from soapfilm.shapes import keyed_shaft
 >>> p = keyed_shaft(40)            # DIN 6885-1 key 12 x 8, t1 = 5

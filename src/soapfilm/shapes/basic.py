@@ -11,12 +11,13 @@ from __future__ import annotations
 import math
 
 import numpy as np
-from shapely.geometry import Polygon, box
+from shapely.geometry import Polygon
 
 from ..errors import InputError
+from ..geometry.curves import Circle, Ellipse
 from ..profile import Profile
 from ._check import count_at_least, fmt, nonnegative, positive
-from ._geom import chord_for, circle, round_convex, to_profile
+from ._geom import chord_for, circle, round_convex, rounded_box, to_profile
 
 __all__ = ["round_bar", "tube", "ellipse", "rectangle", "box_tube", "regular_polygon"]
 
@@ -25,7 +26,8 @@ def round_bar(diameter: float, *, chord: float | None = None, units: str = "mm")
     """Solid round bar of the given diameter, centred on the origin."""
     d = positive("diameter", diameter)
     c = chord_for(d, chord)
-    return to_profile(circle(d / 2, c), f"round {fmt(d)}", units)
+    return to_profile(circle(d / 2, c), f"round {fmt(d)}", units, curves=[Circle(0.0, 0.0, d / 2)],
+                      sagitta=c)
 
 
 def tube(diameter: float, wall: float, *, chord: float | None = None,
@@ -39,7 +41,8 @@ def tube(diameter: float, wall: float, *, chord: float | None = None,
             where="wall", fix="make the wall thinner, or use kind 'round' for a solid bar")
     c = chord_for(d, chord)
     geom = circle(d / 2, c).difference(circle(d / 2 - t, c))
-    return to_profile(geom, f"tube {fmt(d)} x {fmt(t)}", units)
+    return to_profile(geom, f"tube {fmt(d)} x {fmt(t)}", units,
+                      curves=[Circle(0.0, 0.0, d / 2), Circle(0.0, 0.0, d / 2 - t)], sagitta=c)
 
 
 def ellipse(width: float, height: float, *, chord: float | None = None,
@@ -61,7 +64,8 @@ def ellipse(width: float, height: float, *, chord: float | None = None,
     n = max(8, math.ceil(2 * math.pi / dt))
     t = np.arange(n) * (2 * math.pi / n)
     geom = Polygon(np.column_stack([a * np.cos(t), b * np.sin(t)]))
-    return to_profile(geom, f"ellipse {fmt(w)} x {fmt(h)}", units)
+    return to_profile(geom, f"ellipse {fmt(w)} x {fmt(h)}", units,
+                      curves=[Ellipse(0.0, 0.0, a, b)], sagitta=c)
 
 
 def rectangle(width: float, height: float, corner_radius: float = 0.0, *,
@@ -75,9 +79,9 @@ def rectangle(width: float, height: float, corner_radius: float = 0.0, *,
             f"corner_radius {fmt(r)} is more than half the smaller side ({fmt(min(w, h) / 2)})",
             where="corner_radius", fix=f"use at most {fmt(min(w, h) / 2)}")
     c = chord_for(max(w, h), chord)
-    geom = round_convex(box(-w / 2, -h / 2, w / 2, h / 2), r * (1 - 1e-12), c)
+    geom, arcs = rounded_box(-w / 2, -h / 2, w / 2, h / 2, r, c)
     name = f"rectangle {fmt(w)} x {fmt(h)}" + (f" r{fmt(r)}" if r else "")
-    return to_profile(geom, name, units)
+    return to_profile(geom, name, units, curves=arcs, sagitta=c)
 
 
 def box_tube(width: float, height: float, wall: float, outer_radius: float = 0.0,
@@ -109,16 +113,16 @@ def box_tube(width: float, height: float, wall: float, outer_radius: float = 0.0
                          f"size ({fmt(inner_small / 2)})", where="inner_radius",
                          fix=f"use at most {fmt(inner_small / 2)}")
     c = chord_for(max(w, h), chord)
-    outer = round_convex(box(-w / 2, -h / 2, w / 2, h / 2), ro * (1 - 1e-12), c)
-    inner = round_convex(box(-w / 2 + t, -h / 2 + t, w / 2 - t, h / 2 - t),
-                         ri * (1 - 1e-12), c)
+    outer, arcs_out = rounded_box(-w / 2, -h / 2, w / 2, h / 2, ro, c)
+    inner, arcs_in = rounded_box(-w / 2 + t, -h / 2 + t, w / 2 - t, h / 2 - t, ri, c)
     if not outer.contains(inner) or inner.exterior.distance(outer.exterior) <= 1e-9 * small:
         raise InputError(f"the inside corners (inner_radius {fmt(ri)}) cut through the outside "
                          f"corners (outer_radius {fmt(ro)}): no wall is left there",
                          where="inner_radius",
                          fix="make inner_radius larger or outer_radius smaller")
     geom = outer.difference(inner)
-    return to_profile(geom, f"box tube {fmt(w)} x {fmt(h)} x {fmt(t)}", units)
+    return to_profile(geom, f"box tube {fmt(w)} x {fmt(h)} x {fmt(t)}", units,
+                      curves=arcs_out + arcs_in, sagitta=c)
 
 
 def regular_polygon(sides: int, across_flats: float, corner_radius: float = 0.0, *,
@@ -143,5 +147,9 @@ def regular_polygon(sides: int, across_flats: float, corner_radius: float = 0.0,
     geom = Polygon(np.column_stack([rc * np.cos(a), rc * np.sin(a)]))
     c = chord_for(2 * rc, chord)
     geom = round_convex(geom, r, c)
+    # the corner arcs' centres: the corners of the polygon shrunk by r
+    dist = (apothem - r) / math.cos(math.pi / n)
+    arcs = [Circle(dist * math.cos(ak), dist * math.sin(ak), r) for ak in a] if r > 0 else []
     label = {3: "triangle", 4: "square", 6: "hex", 8: "octagon"}.get(n, f"{n}-gon")
-    return to_profile(geom, f"{label} {fmt(s)} AF" + (f" r{fmt(r)}" if r else ""), units)
+    return to_profile(geom, f"{label} {fmt(s)} AF" + (f" r{fmt(r)}" if r else ""), units,
+                      curves=arcs, sagitta=c)

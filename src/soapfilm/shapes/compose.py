@@ -1,7 +1,8 @@
 """Composition: union and difference of sections, and placing a part.
 
 All functions take and return validated :class:`~soapfilm.profile.Profile`
-objects (no mutation).  Example: a hollow splined shaft is
+objects (no mutation); the result keeps the exact curves of every part, moved
+with it, and the points where parts cross lie exactly on them.  Example: a hollow splined shaft is
 ``difference(involute_spline(...), round_bar(12))``; a keyway in a D shaft is
 ``difference(flatted_shaft(...), placed(rectangle(8, 10), dy=20))``.
 """
@@ -15,9 +16,9 @@ from shapely.ops import unary_union
 
 from ..errors import InputError
 from ..profile import Profile
-from ._geom import to_profile
+from ._geom import flattening_sagitta, to_profile
 
-__all__ = ["placed", "union", "difference"]
+__all__ = ["placed", "union", "difference", "combined"]
 
 
 def placed(profile: Profile, dx: float = 0.0, dy: float = 0.0, rotate: float = 0.0) -> Profile:
@@ -36,6 +37,20 @@ def _units(parts) -> str:
     return units.pop()
 
 
+def combined(geom, parts, name: str, units: str) -> Profile:
+    """Profile of ``geom``, a shapely combination of ``parts``, keeping their curves.
+
+    Every part's curves are candidates; edges of the result lying on one are
+    tagged with it, and the points where parts cross are moved exactly onto
+    the curves (onto both where two curves cross).  The tolerance is the
+    largest gap between a part's curved edges and their curves (crossing
+    points lie on the chords).
+    """
+    curves = [cv for p in parts for cv in p.curves]
+    sag = max((flattening_sagitta(p) for p in parts), default=0.0)
+    return to_profile(geom, name, units, curves=curves, sagitta=sag)
+
+
 def union(*parts: Profile, name: str = "") -> Profile:
     """The region covered by any of the parts (must come out as one piece)."""
     if not parts:
@@ -44,7 +59,7 @@ def union(*parts: Profile, name: str = "") -> Profile:
     if geom.geom_type == "MultiPolygon":
         raise InputError(f"the parts do not touch: their union falls apart into "
                          f"{len(geom.geoms)} pieces", fix="move the parts so that they overlap")
-    return to_profile(geom, name or " + ".join(p.name for p in parts), _units(parts))
+    return combined(geom, parts, name or " + ".join(p.name for p in parts), _units(parts))
 
 
 def difference(base: Profile, *cuts: Profile, name: str = "") -> Profile:
@@ -61,4 +76,5 @@ def difference(base: Profile, *cuts: Profile, name: str = "") -> Profile:
         if len(real) > 1:
             raise InputError(f"the cuts split the section into {len(real)} pieces",
                              fix="a bar section must stay one connected region")
-    return to_profile(geom, name or " - ".join([base.name, *(c.name for c in cuts)]), units)
+    return combined(geom, (base, *cuts), name or " - ".join([base.name, *(c.name for c in cuts)]),
+                    units)

@@ -3,7 +3,9 @@
 Placement: I and tee centred on the origin (bounding box), channel with the
 back of its web on x = 0 and its flanges towards +x, angle with the heel at
 the origin and legs along +x and +y.  Only the root (web-to-flange) corners
-are filleted; toes and flange tips stay sharp.
+are filleted; toes and flange tips stay sharp.  The root fillets' centres are
+known (a fillet of radius r in the corner between two walls sits r from both),
+so they are passed on as exact circles.
 """
 
 from __future__ import annotations
@@ -12,11 +14,17 @@ from shapely.geometry import box
 from shapely.ops import unary_union
 
 from ..errors import InputError
+from ..geometry.curves import Circle
 from ..profile import Profile
 from ._check import fmt, nonnegative, positive
 from ._geom import chord_for, fillet_concave, to_profile
 
 __all__ = ["i_section", "channel", "angle", "tee"]
+
+
+def _fillets(centres, r: float) -> list[Circle]:
+    """Root fillet circles of radius ``r`` about the given centres (none if ``r`` is 0)."""
+    return [Circle(float(x), float(y), r) for x, y in centres] if r > 0 else []
 
 
 def _less(name: str, value: float, other: str, limit: float, fix: str) -> None:
@@ -46,8 +54,11 @@ def i_section(depth: float, flange_width: float, web_thickness: float,
     geom = unary_union([box(-b / 2, h / 2 - tf, b / 2, h / 2),
                         box(-b / 2, -h / 2, b / 2, -h / 2 + tf),
                         box(-tw / 2, -h / 2, tw / 2, h / 2)])
-    geom = fillet_concave(geom, r, chord_for(max(h, b), chord))
-    return to_profile(geom, f"I {fmt(h)} x {fmt(b)} x {fmt(tw)}/{fmt(tf)}", units)
+    c = chord_for(max(h, b), chord)
+    geom = fillet_concave(geom, r, c)
+    name = f"I {fmt(h)} x {fmt(b)} x {fmt(tw)}/{fmt(tf)}"
+    roots = [(sx * (tw / 2 + r), sy * (h / 2 - tf - r)) for sx in (1, -1) for sy in (1, -1)]
+    return to_profile(geom, name, units, curves=_fillets(roots, r), sagitta=c)
 
 
 def channel(depth: float, flange_width: float, web_thickness: float,
@@ -64,8 +75,11 @@ def channel(depth: float, flange_width: float, web_thickness: float,
     _root_fits(r, min(b - tw, h / 2 - tf), "between web and flange tip or the other flange")
     geom = unary_union([box(0, h / 2 - tf, b, h / 2), box(0, -h / 2, b, -h / 2 + tf),
                         box(0, -h / 2, tw, h / 2)])
-    geom = fillet_concave(geom, r, chord_for(max(h, b), chord))
-    return to_profile(geom, f"channel {fmt(h)} x {fmt(b)} x {fmt(tw)}/{fmt(tf)}", units)
+    c = chord_for(max(h, b), chord)
+    geom = fillet_concave(geom, r, c)
+    name = f"channel {fmt(h)} x {fmt(b)} x {fmt(tw)}/{fmt(tf)}"
+    roots = [(tw + r, sy * (h / 2 - tf - r)) for sy in (1, -1)]
+    return to_profile(geom, name, units, curves=_fillets(roots, r), sagitta=c)
 
 
 def angle(leg_a: float, leg_b: float, thickness: float, root_radius: float = 0.0, *,
@@ -78,8 +92,10 @@ def angle(leg_a: float, leg_b: float, thickness: float, root_radius: float = 0.0
     _less("thickness", t, "the shorter leg", min(a, b), "a thinner angle or longer legs")
     _root_fits(r, min(a, b) - t, "along the shorter leg")
     geom = unary_union([box(0, 0, b, t), box(0, 0, t, a)])
-    geom = fillet_concave(geom, r, chord_for(max(a, b), chord))
-    return to_profile(geom, f"angle {fmt(a)} x {fmt(b)} x {fmt(t)}", units)
+    c = chord_for(max(a, b), chord)
+    geom = fillet_concave(geom, r, c)
+    name = f"angle {fmt(a)} x {fmt(b)} x {fmt(t)}"
+    return to_profile(geom, name, units, curves=_fillets([(t + r, t + r)], r), sagitta=c)
 
 
 def tee(depth: float, flange_width: float, stem_thickness: float,
@@ -95,5 +111,8 @@ def tee(depth: float, flange_width: float, stem_thickness: float,
     _less("stem_thickness", tw, "the flange width", b, "a thinner stem or a wider flange")
     _root_fits(r, min((b - tw) / 2, h - tf), "between stem and flange tip or stem end")
     geom = unary_union([box(-b / 2, h / 2 - tf, b / 2, h / 2), box(-tw / 2, -h / 2, tw / 2, h / 2)])
-    geom = fillet_concave(geom, r, chord_for(max(h, b), chord))
-    return to_profile(geom, f"tee {fmt(h)} x {fmt(b)} x {fmt(tw)}/{fmt(tf)}", units)
+    c = chord_for(max(h, b), chord)
+    geom = fillet_concave(geom, r, c)
+    name = f"tee {fmt(h)} x {fmt(b)} x {fmt(tw)}/{fmt(tf)}"
+    roots = [(sx * (tw / 2 + r), h / 2 - tf - r) for sx in (1, -1)]
+    return to_profile(geom, name, units, curves=_fillets(roots, r), sagitta=c)

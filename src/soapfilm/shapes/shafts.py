@@ -19,6 +19,7 @@ from shapely.geometry import box
 from shapely.ops import unary_union
 
 from ..errors import InputError
+from ..geometry.curves import Circle
 from ..profile import Profile
 from ._check import count_at_least, fmt, nonnegative, positive
 from ._geom import chord_for, circle, round_convex, to_profile
@@ -164,7 +165,8 @@ def keyed_shaft(diameter: float, key_width: float | None = None,
     c = chord_for(d, chord)
     disc = circle(R, c)
     slot = box(-w / 2, y_floor, w / 2, 2 * R + w)
-    slot = round_convex(slot, rf * (1 - 1e-12), c) if rf > 0 else slot
+    rf = rf * (1 - 1e-12)
+    slot = round_convex(slot, rf, c) if rf > 0 else slot
     slots = [affinity.rotate(slot, 360.0 * k / n, origin=(0, 0)) for k in range(n)]
     if n > 1:
         cut0 = slots[0].intersection(disc)
@@ -174,8 +176,16 @@ def keyed_shaft(diameter: float, key_width: float | None = None,
                              f"{fmt(d)} shaft", where="keyways",
                              fix="use fewer, narrower or shallower keyways")
     geom = disc.difference(unary_union(slots))
+    arcs = [Circle(0.0, 0.0, R)]
+    if rf > 0:  # floor fillets about (+-(w/2 - rf), y_floor + rf), turned with each keyway
+        for k in range(n):
+            a = math.radians(360.0 * k / n)
+            co, si = math.cos(a), math.sin(a)
+            for x in (w / 2 - rf, rf - w / 2):
+                y = y_floor + rf
+                arcs.append(Circle(co * x - si * y, si * x + co * y, rf))
     label = f"shaft {fmt(d)} with {n} keyway{'s' if n > 1 else ''} {fmt(w)} x {fmt(t1)}"
-    return to_profile(geom, label, units)
+    return to_profile(geom, label, units, curves=arcs, sagitta=c)
 
 
 def flatted_shaft(diameter: float, flats: int = 1, flat_depth: float | None = None,
@@ -218,4 +228,4 @@ def flatted_shaft(diameter: float, flats: int = 1, flat_depth: float | None = No
     keep = box(-d, -d if nf == 1 else -(R - h), d, R - h)
     geom = circle(R, c).intersection(keep)
     label = f"{'D' if nf == 1 else 'double-D'} shaft {fmt(d)}, flat depth {fmt(h)}"
-    return to_profile(geom, label, units)
+    return to_profile(geom, label, units, curves=[Circle(0.0, 0.0, R)], sagitta=c)

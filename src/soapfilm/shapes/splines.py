@@ -11,6 +11,16 @@ at polar angle ``+-(psi + inv(alpha) - inv(alpha_r))`` from the tooth centre
 line, with ``inv(a) = tan(a) - a`` and ``psi = pi / (2 z)`` the half tooth
 angle at the reference circle (basic tooth thickness ``pi m / 2``, no
 allowance).  Below the base circle the flank continues as a radial line.
+
+Both kinds are built point by point from one half tooth, mirrored and turned,
+with every edge tagged with its piece: root and tip circles, flank (an
+:class:`~soapfilm.geometry.curves.Involute` or a straight line) and root
+fillet.  The root fillet is constructed exactly: a circle of the fillet
+radius tangent to the root circle from outside and to the flank (found by
+bisection on the involute's roll angle), with the arcs ending at the tangent
+points.  (Rounding the flattened outline by offsetting, as before, put the
+fillet centre where the offsets of two chords crossed and left sub-micron
+steps where the fillet met the flank, each a false 270 deg corner.)
 """
 
 from __future__ import annotations
@@ -20,14 +30,12 @@ from dataclasses import dataclass
 from functools import lru_cache
 
 import numpy as np
-from shapely import affinity
-from shapely.geometry import Polygon, box
-from shapely.ops import unary_union
 
 from ..errors import InputError
+from ..geometry.curves import Circle, Involute
 from ..profile import Profile
 from ._check import count_at_least, fmt, nonnegative, positive
-from ._geom import arc_points, chord_for, circle, fillet_concave, to_profile
+from ._geom import arc_points, chord_for
 from .shafts import _read_csv
 
 __all__ = [
@@ -160,12 +168,85 @@ def straight_spline(splines: int | None = None, minor_diameter: float | None = N
             raise InputError(f"root_fillet {fmt(rf)} is taller than the spline flank",
                              where="root_fillet", fix="use a smaller root fillet")
     c = chord_for(D, chord)
-    tooth = box(-b / 2, 0.0, b / 2, D)
-    teeth = [affinity.rotate(tooth, 360.0 * k / n, origin=(0, 0)) for k in range(n)]
-    geom = circle(D / 2, c).intersection(unary_union(teeth)).union(circle(d / 2, c))
-    geom = fillet_concave(geom, rf, c)
+    r, R, hb = d / 2, D / 2, b / 2
+    a_mid = math.pi / 2 - math.pi / n              # middle of the space before the first spline
+    y_top = math.sqrt(R * R - hb * hb)
+    fillet = None
+    if rf > 0:
+        # fillet circle tangent to the flank x = b/2 and, from outside, to the minor circle
+        xc, yc = hb + rf, math.sqrt((r + rf) ** 2 - (hb + rf) ** 2)
+        fillet = Circle(xc, yc, rf)
+        phi_c = math.atan2(yc, xc)
+        foot = [(arc_points(0.0, 0.0, r, a_mid, phi_c, c)[:-1], _ROOT),
+                (arc_points(xc, yc, rf, phi_c - math.pi, -math.pi, c)[:-1], _FILLET),
+                ([[hb, yc]], _STRAIGHT)]
+    else:
+        y_root = math.sqrt(r * r - hb * hb)
+        foot = [(arc_points(0.0, 0.0, r, a_mid, math.atan2(y_root, hb), c)[:-1], _ROOT),
+                ([[hb, y_root]], _STRAIGHT)]
+    tip = arc_points(0.0, 0.0, R, math.atan2(y_top, hb), math.pi / 2, c)
     name = f"straight spline {n}x{fmt(d)}x{fmt(D)}x{fmt(b)}"
-    return to_profile(geom, name, units)
+    return _toothed(foot + [(tip, _TIP)], n, Circle(0.0, 0.0, r), Circle(0.0, 0.0, R), None,
+                    fillet, name, units)
+
+
+# Curves of the half tooth, in the order _toothed takes them (straight edges: -1)
+_ROOT, _TIP, _FLANK, _FILLET, _STRAIGHT = 0, 1, 2, 3, -1
+
+
+def _toothed(half, z: int, root: Circle, tip: Circle, flank, fillet, name: str,
+             units: str) -> Profile:
+    """Profile of ``z`` equal teeth built from one half tooth, every edge tagged.
+
+    Parameters
+    ----------
+    half : list of (points, piece)
+        The half tooth with its centre line along +y, counter-clockwise from
+        the middle of the tooth space on the clockwise side (polar angle
+        ``pi/2 - pi/z``) to the middle of the tooth top (on the +y axis).
+        Each piece's points run from its start up to, not including, the next
+        piece's start; the last piece (the tip arc) ends on the axis.
+        ``piece`` is ``_ROOT``, ``_TIP``, ``_FLANK``, ``_FILLET`` or
+        ``_STRAIGHT``.  Every point is on its piece's curve.
+    root, tip : Circle
+        Root and tip circles about the origin.
+    flank, fillet : Curve or None
+        The flank curve and root fillet of the half tooth (None if absent).
+
+    The other half of each tooth is the mirror image in the tooth's centre
+    line, and every tooth a turned copy; each gets its own copies of ``flank``
+    and ``fillet``.
+    """
+    pts = np.concatenate([np.asarray(p, dtype=float).reshape(-1, 2) for p, _ in half])
+    tags = np.concatenate([np.full(len(np.asarray(p).reshape(-1, 2)), k) for p, k in half])
+    pts[-1, 0] = 0.0
+    edge = tags[:-1]                     # edge i runs from point i to point i + 1
+    own = [cv for cv in (flank, fillet) if cv is not None]
+    # per edge: the curve index if shared by all teeth, else -2 and the offset of its
+    # tooth copy (2 j for own[j], its mirror image at 2 j + 1)
+    rel = {_FLANK: 2 * own.index(flank) if flank is not None else 0,
+           _FILLET: 2 * own.index(fillet) if fillet is not None else 0}
+    shared = np.isin(edge, (_ROOT, _TIP, _STRAIGHT))
+    offset = np.array([rel.get(int(e), 0) for e in edge], dtype=np.int64)
+    right_rel = np.where(shared, edge, offset)
+    left_rel = np.where(shared, edge, offset + 1)[::-1]
+    shared_l = shared[::-1]
+    mirror = pts[::-1] * np.array([-1.0, 1.0])
+    pitch = np.concatenate([pts[:-1], mirror[:-1]])
+    flip = np.array([[-1.0, 0.0], [0.0, 1.0]])
+    curves: list = [root, tip]
+    loop, loop_tags = [], []
+    for k in range(z):
+        a = 2.0 * math.pi * k / z
+        turn = np.array([[math.cos(a), -math.sin(a)], [math.sin(a), math.cos(a)]])
+        first = len(curves)
+        for cv in own:
+            curves += [cv.moved(turn, (0.0, 0.0)), cv.moved(turn @ flip, (0.0, 0.0))]
+        loop.append(pitch @ turn.T)
+        loop_tags.append(np.concatenate([np.where(shared, right_rel, first + right_rel),
+                                         np.where(shared_l, left_rel, first + left_rel)]))
+    return Profile.from_loops([np.concatenate(loop)], units=units, name=name, curves=curves,
+                              edge_curves=[np.concatenate(loop_tags)])
 
 
 def involute_defaults(module: float, teeth: int, pressure_angle: float = 30.0,
@@ -266,24 +347,90 @@ def involute_spline(module: float, teeth: int, pressure_angle: float = 30.0,
                              f"({fmt(gap)} wide at the root)", where="root_fillet",
                              fix=f"use a root_fillet below {fmt(gap / 2)}")
     c = chord_for(D, chord)
-    r_flank = _involute_flank(rb, max(rr, rb), ra, c)
-    if rr < rb:
-        r_flank = np.concatenate([[rr], r_flank])
+    gamma = math.pi / 2 - psi - inv_a          # polar angle where the flank leaves the base circle
+    flank = Involute(0.0, 0.0, rb, gamma, 1)   # the flank on the clockwise side of the first tooth
+    t_tip = math.sqrt((ra / rb) ** 2 - 1.0)
+    a_mid = math.pi / 2 - math.pi / z          # middle of the space before the first tooth
+    radial_from = None                         # radius where a radial flank part starts
+    fillet = None
+    if rf > 0:
+        fillet, t_foot, radial_from = _involute_root_fillet(flank, rr, rf, t_tip)
+        phi_c = math.atan2(fillet.cy, fillet.cx)
+        if phi_c <= a_mid:
+            raise InputError(f"root_fillet {fmt(rf)} does not fit in the tooth space "
+                             "(the two fillets of a space overlap)", where="root_fillet",
+                             fix="use a smaller root_fillet")
+        touch = flank.point([t_foot])[0] if radial_from is None else (
+            radial_from * np.array([math.cos(gamma), math.sin(gamma)]))
+        a_touch = math.atan2(touch[1] - fillet.cy, touch[0] - fillet.cx)
+        a_root = phi_c - math.pi
+        a_touch -= 2 * math.pi * math.ceil((a_touch - a_root) / (2 * math.pi))  # clockwise
+        foot = [(arc_points(0.0, 0.0, rr, a_mid, phi_c, c)[:-1], _ROOT),
+                (arc_points(fillet.cx, fillet.cy, rf, a_root, a_touch, c)[:-1], _FILLET)]
+    elif rr >= rb:
+        t_foot = math.sqrt((rr / rb) ** 2 - 1.0)
+        a_foot = gamma + float(inv(math.atan(t_foot)))
+        foot = [(arc_points(0.0, 0.0, rr, a_mid, a_foot, c)[:-1], _ROOT)]
+    else:
+        t_foot, radial_from = 0.0, rr
+        foot = [(arc_points(0.0, 0.0, rr, a_mid, gamma, c)[:-1], _ROOT)]
+    if radial_from is not None:  # radial flank below the base circle, up to it
+        foot.append(([[radial_from * math.cos(gamma), radial_from * math.sin(gamma)]],
+                     _STRAIGHT))
+    # flank vertices at the ISO relation's polar angles (the Involute above is the same curve)
+    r_flank = _involute_flank(rb, rb * math.sqrt(1.0 + t_foot * t_foot), ra, c)
     th = half_angle(r_flank)
-    pitch = 2 * math.pi / z
-    pts = []
-    for k in range(z):
-        phi = math.pi / 2 + k * pitch
-        a_right = phi - th                                  # rising flank, clockwise side
-        pts.append(np.column_stack([r_flank * np.cos(a_right), r_flank * np.sin(a_right)]))
-        tip = arc_points(0, 0, ra, phi - tip_half, phi + tip_half, c)[1:-1]
-        pts.append(tip)
-        a_left = (phi + th)[::-1]
-        rl = r_flank[::-1]
-        pts.append(np.column_stack([rl * np.cos(a_left), rl * np.sin(a_left)]))
-        root_arc = arc_points(0, 0, rr, phi + root_half, phi + pitch - root_half, c)[1:-1]
-        pts.append(root_arc)
-    geom = Polygon(np.concatenate([p for p in pts if len(p)]))
-    geom = fillet_concave(geom, rf, c)
+    flank_pts = np.column_stack([r_flank * np.cos(math.pi / 2 - th),
+                                 r_flank * np.sin(math.pi / 2 - th)])
+    tip = arc_points(0.0, 0.0, ra, math.pi / 2 - tip_half, math.pi / 2, c)
     name = f"involute spline m{fmt(m)} z{z} {fmt(alpha_deg)} deg"
-    return to_profile(geom, name, units)
+    return _toothed(foot + [(flank_pts[:-1], _FLANK), (tip, _TIP)], z, Circle(0.0, 0.0, rr),
+                    Circle(0.0, 0.0, ra), flank, fillet, name, units)
+
+
+def _involute_root_fillet(flank: Involute, rr: float, rf: float, t_tip: float
+                          ) -> tuple[Circle, float, float | None]:
+    """Root fillet of radius ``rf`` tangent to the root circle and to the flank.
+
+    The flank is the involute ``flank`` (material on its counter-clockwise
+    side) continued below the base circle by the radial line through its base
+    point.  The fillet's centre lies on the circle of radius ``rr + rf``
+    (tangent to the root circle from outside) at distance ``rf`` from the
+    flank, on the space side.
+
+    Returns
+    -------
+    fillet : Circle
+    t_foot : float
+        Roll angle where the involute part of the flank starts above the fillet.
+    radial_from : float or None
+        Radius of the fillet's tangent point on the radial part, or None if the
+        fillet touches the involute.
+    """
+    rb, gamma, rc = flank.rb, flank.start, rr + rf
+    rise = math.sqrt(rc * rc - rf * rf)   # tangent radius on a radial line
+    if rise <= rb:  # touches the radial part: the centre is rf off the line, at radius rc
+        beta = gamma - math.asin(rf / rc)
+        return Circle(rc * math.cos(beta), rc * math.sin(beta), rf), 0.0, rise
+
+    def centre(t):  # offset rf from the flank point of roll angle t, towards the space
+        ang = gamma + t
+        return flank.point([t])[0] + rf * np.array([math.sin(ang), -math.cos(ang)])
+
+    def excess(t):
+        return float(np.hypot(*centre(t))) - rc
+
+    lo, hi = 0.0, t_tip
+    if excess(hi) < 0:
+        raise InputError(f"root_fillet {fmt(rf)} does not fit on the tooth flank",
+                         where="root_fillet", fix="use a smaller root_fillet")
+    for _ in range(200):  # bisection down to rounding (excess rises with t)
+        mid = 0.5 * (lo + hi)
+        if mid in (lo, hi):
+            break
+        lo, hi = (mid, hi) if excess(mid) < 0 else (lo, mid)
+    t = hi if abs(excess(hi)) < abs(excess(lo)) else lo
+    cx, cy = centre(t)
+    # put the centre exactly on the circle of radius rc (moves it by rounding only)
+    k = rc / math.hypot(cx, cy)
+    return Circle(float(cx * k), float(cy * k), rf), t, None
