@@ -322,8 +322,7 @@ def test_composition_keeps_curves_and_crossings_lie_on_both():
 
 def test_placed_and_cut_parts_move_their_curves():
     """A hollow involute spline (bore 12) turned by 33 deg and moved: still all curved (the
-    bore wholly), vertices on the moved curves; the keyed shaft cut from a D shaft keeps the
-    rectangle's corner arcs where they survive."""
+    bore wholly), vertices on the moved curves, no false corner."""
     p = placed(difference(involute_spline(2, 20, 30), round_bar(12)), dx=5, dy=-3, rotate=33)
     assert curved_fraction(p, 0) == 1.0 and curved_fraction(p, 1) == 1.0
     assert worst_off_curve(p) < 1e-9
@@ -331,9 +330,12 @@ def test_placed_and_cut_parts_move_their_curves():
 
 
 def test_shape_file_parts_keep_their_curves(tmp_path):
-    """[[part]] add and cut: a round bar with a rotated keyed shaft's keyway cut by a placed
-    rectangle and a bore: curves of every part survive, vertices on them, no false corner
-    (the rectangle's rounded corners are inside the section: none of its edges remain)."""
+    """[[part]] add and cut: a round bar 40 with a bore 10 off centre and a notch cut in the
+    rim by a turned rectangle 8 x 10 with corner radius 1: the shaft circle, the bore and
+    the rectangle's two corner arcs inside the bar are the curves (corner centres at
+    (+-(4 - 1), -(5 - 1)) from the rectangle's centre, turned by 30 deg, moved to
+    (-10, 17.3): elementary geometry), vertices on them; the notch meets the rim at convex
+    corners, so no re-entrant corner."""
     f = tmp_path / "parts.toml"
     f.write_text('units = "mm"\n'
                  '[[part]]\nkind = "round"\ndiameter = 40\n'
@@ -343,7 +345,14 @@ def test_shape_file_parts_keep_their_curves(tmp_path):
     p = load_shapefile(f).profile
     assert p.name == "parts"
     assert curved_fraction(p, 1) == 1.0  # the bore
-    assert {type(c).__name__ for c in p.curves} == {"Circle"}
+    c30, s30 = math.cos(math.radians(30)), math.sin(math.radians(30))
+    # corner centres of the lower side (local (+-3, -4)), turned by 30 deg and moved
+    inner = [(-10 + x * c30 + 4 * s30, 17.3 + x * s30 - 4 * c30) for x in (3.0, -3.0)]
+    want = [(0.0, 0.0, 20.0), (3.0, 0.0, 5.0)] + [(x, y, 1.0) for x, y in inner]
+    got = [(c.cx, c.cy, c.r) for c in p.curves]
+    assert len(got) == 4
+    for w in want:
+        assert min(math.dist(w, g) for g in got) < 1e-9
     assert worst_off_curve(p) < 1e-9
     assert_clean(p)
 
