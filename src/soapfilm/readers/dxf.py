@@ -2,7 +2,7 @@
 
 The reader takes the modelspace entities that describe a boundary -- LINE,
 ARC, CIRCLE, LWPOLYLINE (with bulges), 2D POLYLINE, ELLIPSE (full or
-partial) and SPLINE -- flattens the curved ones to polylines, chains the
+partial) and SPLINE --, keeps the exact curve of every curved one, chains the
 pieces into closed loops by matching their end points, and builds a
 :class:`~soapfilm.profile.Profile`: the loop that encloses all the others is
 the outside, the loops directly inside it are holes.  Everything else in the
@@ -13,42 +13,51 @@ layer 0 inside a block takes the layer of its INSERT, as CAD programs draw it,
 and is named in messages by the INSERT's handle and its place in the block
 (``#2F.3``).
 
+Exact curves
+------------
+Arcs stay arcs from the drawing to the solver.  Every curved edge of the
+outline is tagged with the curve it lies on (``Profile.curves``,
+``Profile.edge_curves``): ARC, CIRCLE and each bulged polyline segment give a
+:class:`~soapfilm.geometry.curves.Circle`; an ELLIPSE gives an
+:class:`~soapfilm.geometry.curves.Ellipse`; a SPLINE gives
+:class:`~soapfilm.geometry.spline.SplineCurve` pieces, cut at its inflection
+points so that each turns one way only.  LINEs, bulgeless polyline segments
+and splines of degree 1 are straight.  The mesher puts its boundary nodes on
+these curves and the bounds on J are for the drawn outline, so the error of
+J no longer depends on how finely the reader flattens.  Block references need
+nothing more: ezdxf hands over each entity already placed (a mirrored arc
+with extrusion -Z, a circle scaled unequally in x and y as an ELLIPSE), and
+the curve is read from the placed entity.
+
 Flattening and chord tolerance
 ------------------------------
-Arcs, circles and bulged polyline segments are replaced by inscribed
-polylines whose vertices lie exactly on the arc, with the largest sagitta
-(distance from a chord to its arc) at most the chord tolerance ``s`` and no
-chord spanning more than 10 degrees.  Ellipses and splines use ezdxf's
-adaptive flattening with the same distance.  The default ``s`` is
-``1e-5`` times the drawing size (largest side of the bounding box).
-
-How fine that is: moving the boundary inward by ``dn`` changes J by
-``-int |tau|^2 dn ds`` (per unit G*theta; Hadamard's boundary variation of
-the torsional rigidity, as used by Polya and Szego, Isoperimetric
-Inequalities in Mathematical Physics, 1951 -- cited from memory).  An
-inscribed chord cuts off a sliver of mean depth ``2 s / 3``.  For a circle
-of diameter d, ``|tau| = d / 2`` on the boundary, which gives
-``dJ / J = (8 / 3) s / (d / 2) = 5.3e-5`` at ``s = 1e-5 d``: below the 1e-4
-target.  (Cross-check: an inscribed regular N-gon loses the fraction
-``1 - sin(2 pi / N) / (2 pi / N)`` of its area, and J twice that to first
-order, the same figure.)  The test suite checks it with the finite element
-bracket of a CIRCLE entity against ``pi d^4 / 32``; the guaranteed upper
-bound of the flattened circle sits 5.3e-5 below it, as predicted.  Other
-compact sections have ``int |tau|^2 ds / J`` of the same order as the
-circle, and concentric curves (tube walls, fillets facing each other) shift
-together, so the wall thickness is kept; pass a smaller ``chord_tolerance``
-for slender shapes with long curved faces.
+The polyline the reader makes is a starting polygon, used to join, check and
+nest the loops: its vertices lie exactly on their curves, the sagitta
+(distance from a chord to its curve) is at most the chord tolerance ``s``,
+and the tangent turns by at most 10 degrees over any chord, so the sharp ends
+of a slender ellipse get several short chords instead of one that cuts them
+off.  The default ``s`` is ``1e-5`` times the drawing size (largest side of
+the bounding box): loops closer than that may be judged to touch.  (When the
+polygon itself was solved, this tolerance set the error of J: a flattened
+circle of diameter d loses ``(8 / 3) s / (d / 2) = 5.3e-5`` of it, from the
+boundary variation of J, ``-int |tau|^2 dn ds`` per unit G*theta, after
+Polya and Szego, Isoperimetric Inequalities in Mathematical Physics, 1951 --
+cited from memory; the polygon of an ellipse of axis ratio 0.001 had 3.1 % less J
+than the ellipse.)
 
 Joining
 -------
 Piece ends closer than the join tolerance (default ``1e-5`` times the drawing
-size, overridable) are one point.  Each point must join exactly two piece
-ends.  Anything else is an :class:`~soapfilm.errors.InputError` naming the
-entity handles (``#2F``) and the position in drawing coordinates: a gap
-(with its size and the tolerance that would bridge it), an overlap (doubled
-or partly overlapping entities), a dangling entity, a branch, an open loop,
-loops that cross, two separate outsides, an island inside a hole, no
-geometry on the chosen layers, or an unreadable file.
+size, overridable) are one point: the ends' mean between two straight
+pieces, else a point on the curve(s) that meet there (see ``_joints``), so
+closing a gap never puts a vertex off its curve by more than the gap.  Each
+point must join exactly two piece ends.  Anything else is an
+:class:`~soapfilm.errors.InputError` naming the entity handles (``#2F``) and
+the position in drawing coordinates: a gap (with its size and the tolerance
+that would bridge it), an overlap (doubled or partly overlapping entities), a
+dangling entity, a branch, an open loop, loops that cross, two separate
+outsides, an island inside a hole, no geometry on the chosen layers, or an
+unreadable file.
 
 Units
 -----
@@ -69,6 +78,7 @@ from collections import Counter, defaultdict
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass
 from pathlib import Path
+from typing import NamedTuple
 
 import numpy as np
 import shapely
@@ -76,6 +86,9 @@ from scipy.spatial import cKDTree
 from shapely.geometry import LineString, Polygon
 
 from ..errors import InputError
+from ..geometry.curves import Circle, Curve, Ellipse
+from ..geometry.edges import _intersection
+from ..geometry.spline import SplineCurve, monotone_pieces
 from ..profile import LENGTH_UNITS, Profile
 from . import register
 
@@ -89,6 +102,11 @@ DEFAULT_CHORD_TOLERANCE = 1e-5
 DEFAULT_JOIN_TOLERANCE = 1e-5
 #: Largest angle one chord may span on an arc, whatever the tolerance.
 _MAX_STEP = math.radians(10.0)
+#: Bulges below this are straight segments (sagitta under 5e-7 of the chord: the circle's
+#: centre would be millions of chords away and lose its digits).
+_MIN_BULGE = 1e-6
+#: Most halvings of a curve's parameter grid when it is flattened.
+_MAX_HALVINGS = 40
 #: Free ends closer than this fraction of the drawing size are called a gap,
 #: farther ones an open loop or a dangling entity.
 _GAP_LIMIT = 0.05
@@ -121,14 +139,35 @@ GEOMETRY = ("LINE", "ARC", "CIRCLE", "LWPOLYLINE", "POLYLINE", "ELLIPSE", "SPLIN
 
 
 # --------------------------------------------------------------------- pieces
-@dataclass(frozen=True)
-class _Piece:
-    """One flattened entity (or one loop of it): an (n, 2) polyline."""
+class _Path(NamedTuple):
+    """One entity (or one loop of it) flattened: an ``(n, 2)`` polyline in world XY.
+
+    Edge ``i`` (vertex ``i`` to ``i + 1``) lies on ``curves[edge[i]]``, or is
+    straight where ``edge[i]`` is -1; the vertices of curved edges lie on
+    their curve.
+    """
 
     xy: np.ndarray
+    edge: np.ndarray
+    curves: tuple[Curve, ...] = ()
+
+
+def _straight(xy: np.ndarray) -> _Path:
+    return _Path(xy, np.full(len(xy) - 1, -1, dtype=np.int64))
+
+
+@dataclass(frozen=True)
+class _Piece:
+    """One flattened entity (or one loop of it), with its handle and layer."""
+
+    path: _Path
     kind: str
     handle: str
     layer: str
+
+    @property
+    def xy(self) -> np.ndarray:
+        return self.path.xy
 
     @property
     def name(self) -> str:
@@ -137,6 +176,11 @@ class _Piece:
     @property
     def length(self) -> float:
         return float(np.sum(np.hypot(*np.diff(self.xy, axis=0).T)))
+
+    def end_curve(self, end: int) -> Curve | None:
+        """The curve of the edge at the start (0) or the end (1) of the piece."""
+        tag = int(self.path.edge[0 if end == 0 else -1])
+        return self.path.curves[tag] if tag >= 0 else None
 
 
 def _fmt(x: float) -> str:
@@ -162,18 +206,52 @@ def _arc_points(center, radius: float, a0: float, sweep: float, chord: float) ->
     return np.column_stack([center[0] + radius * np.cos(ang), center[1] + radius * np.sin(ang)])
 
 
-def _bulge_points(p0, p1, bulge: float, chord: float) -> np.ndarray:
-    """Points along a polyline segment from p0 to p1 with a DXF bulge.
+def _curve_params(curve: Curve, t: np.ndarray, chord: float) -> np.ndarray:
+    """Parameters of a polyline inscribed in ``curve``, refined from the grid ``t``.
+
+    Every interval of the grid is halved until, over it, the tangent turns by
+    at most ``_MAX_STEP`` and the curve stays within ``chord`` of the chord
+    (checked at the quarter points).  The turn limit is what keeps the ends of
+    a slender ellipse's long axis, where the tangent turns quickly, in several
+    short chords rather than one that cuts the tip off.
+    """
+    t = np.asarray(t, dtype=float)
+    frac = np.array([0.0, 0.25, 0.5, 0.75, 1.0])
+    for _ in range(_MAX_HALVINGS):
+        a, b = t[:-1], t[1:]
+        q = (a[:, None] + (b - a)[:, None] * frac).ravel()
+        p = curve.point(q).reshape(-1, 5, 2)
+        d = curve.derivative(q).reshape(-1, 5, 2)
+        d0, d1 = d[:, :-1], d[:, 1:]
+        turn = np.abs(np.arctan2(d0[..., 0] * d1[..., 1] - d0[..., 1] * d1[..., 0],
+                                 np.einsum("ijk,ijk->ij", d0, d1))).sum(axis=1)
+        c = p[:, 4] - p[:, 0]
+        length = np.hypot(*c.T)
+        off = p[:, 1:4] - p[:, :1]
+        cross = np.abs(c[:, None, 0] * off[..., 1] - c[:, None, 1] * off[..., 0]).max(axis=1)
+        dev = np.where(length > 0, cross / np.where(length > 0, length, 1.0), 0.0)
+        coarse = (turn > _MAX_STEP) | (dev > chord)
+        if not np.any(coarse):
+            break
+        where = np.flatnonzero(coarse)
+        t = np.insert(t, where + 1, 0.5 * (a[where] + b[where]))
+    return t
+
+
+def _bulge_points(p0, p1, bulge: float, chord: float):
+    """Points along a polyline segment from p0 to p1 with a DXF bulge, and its circle.
 
     The bulge is ``tan(theta / 4)`` with theta the included angle, positive
-    for a counter-clockwise arc from p0 to p1.
+    for a counter-clockwise arc from p0 to p1.  A segment whose bulge is under
+    ``_MIN_BULGE`` (sagitta under half that times the chord) is a line, and
+    the circle is ``None``; else it is ``(centre, radius)``.
     """
     p0 = np.asarray(p0, dtype=float)
     p1 = np.asarray(p1, dtype=float)
     v = p1 - p0
     c = float(np.hypot(*v))
-    if abs(bulge) < 1e-12 or c == 0.0:
-        return np.vstack([p0, p1])
+    if abs(bulge) < _MIN_BULGE or c == 0.0:
+        return np.vstack([p0, p1]), None
     theta = 4.0 * math.atan(bulge)
     left = np.array([-v[1], v[0]]) / c
     center = 0.5 * (p0 + p1) + left * (0.5 * c / math.tan(0.5 * theta))
@@ -181,18 +259,32 @@ def _bulge_points(p0, p1, bulge: float, chord: float) -> np.ndarray:
     a0 = math.atan2(p0[1] - center[1], p0[0] - center[0])
     pts = _arc_points(center, radius, a0, theta, chord)
     pts[0], pts[-1] = p0, p1
-    return pts
+    return pts, (center, radius)
 
 
-def _bulged_polyline(points: np.ndarray, bulges: np.ndarray, closed: bool, chord: float):
-    """Flatten a polyline given by vertices and per-vertex bulges."""
+def _bulged_polyline(entity, points: np.ndarray, bulges: np.ndarray, closed: bool, chord: float,
+                     z: float) -> _Path:
+    """Flatten a polyline given by OCS vertices and per-vertex bulges, mapped to world XY.
+
+    Every bulged segment gets its own :class:`Circle`.
+    """
     n = len(points)
     nseg = n if closed else n - 1
-    parts = [points[:1]]
+    parts, tags, circles = [points[:1]], [], []
     for i in range(nseg):
-        j = (i + 1) % n
-        parts.append(_bulge_points(points[i], points[j], bulges[i], chord)[1:])
-    return np.vstack(parts)
+        pts, circle = _bulge_points(points[i], points[(i + 1) % n], bulges[i], chord)
+        parts.append(pts[1:])
+        if circle is None:
+            tags.append(np.full(len(pts) - 1, -1))
+        else:
+            tags.append(np.full(len(pts) - 1, len(circles)))
+            circles.append(circle)
+    xy = _to_wcs(entity, np.vstack(parts), z)
+    curves = []
+    for center, radius in circles:
+        cw = _to_wcs(entity, np.asarray([center]), z)[0]
+        curves.append(Circle(float(cw[0]), float(cw[1]), radius))
+    return _Path(xy, np.concatenate(tags).astype(np.int64), tuple(curves))
 
 
 def _plane_check(entity, where: str) -> None:
@@ -217,10 +309,6 @@ def _to_wcs(entity, xy: np.ndarray, z: float = 0.0) -> np.ndarray:
     return np.array([(p.x, p.y) for p in pts], dtype=float)
 
 
-def _vec_xy(points: Iterable) -> np.ndarray:
-    return np.array([(p[0], p[1]) for p in points], dtype=float).reshape(-1, 2)
-
-
 def _flat_xy(entity, points: Iterable, where: str) -> np.ndarray:
     """XY of world points, refusing entities that leave the XY plane."""
     xyz = np.array([(p[0], p[1], p[2]) for p in points], dtype=float).reshape(-1, 3)
@@ -234,14 +322,74 @@ def _flat_xy(entity, points: Iterable, where: str) -> np.ndarray:
     return xyz[:, :2].copy()
 
 
-def _flatten(entity, chord: float, where: str) -> list[np.ndarray] | None:
-    """Flatten one geometry entity into polylines (world XY); [] if it is empty."""
+def _ellipse(entity, chord: float) -> _Path | None:
+    """An ELLIPSE (full or partial) as an :class:`Ellipse` and points on it.
+
+    DXF gives the centre and the major axis vector in world coordinates, the
+    minor axis as ``ratio`` times the major axis turned a quarter about the
+    extrusion direction (so clockwise in plan view when the extrusion is -Z,
+    a mirrored ellipse), and the arc from ``start_param`` to ``end_param`` in
+    the eccentric angle, counter-clockwise about the extrusion.
+    """
+    tool = entity.construction_tool()
+    c, major, minor = tool.center, tool.major_axis, tool.minor_axis
+    if not (math.hypot(major[0], major[1]) > 0 and math.hypot(minor[0], minor[1]) > 0):
+        return None  # no area: nothing to read
+    # sense +1: the minor axis is a quarter turn counter-clockwise of the major one in plan view
+    sense = 1.0 if major[0] * minor[1] - major[1] * minor[0] >= 0 else -1.0
+    curve = Ellipse(float(c[0]), float(c[1]), math.hypot(major[0], major[1]),
+                    math.hypot(minor[0], minor[1]), math.atan2(major[1], major[0]))
+    start = float(tool.start_param)
+    span = (float(tool.end_param) - start) % (2.0 * math.pi)
+    full = span == 0.0 or abs(span - 2.0 * math.pi) < 1e-12
+    if full:
+        span = 2.0 * math.pi
+    grid = np.linspace(start, start + span, max(2, math.ceil(span / (0.25 * math.pi))) + 1)
+    xy = curve.point(_curve_params(curve, sense * grid, chord))  # the eccentric angle, mirrored
+    if full:
+        xy[-1] = xy[0]
+    return _Path(xy, np.zeros(len(xy) - 1, dtype=np.int64), (curve,))
+
+
+def _spline(entity, chord: float, where: str) -> _Path:
+    """A SPLINE as pieces of one :class:`SplineCurve` that turn one way only, and points on them.
+
+    A spline that is straight throughout (degree 1, or collinear control
+    points) is a polyline through its points at the knots.  A spline that
+    closes on itself is cut in two at least, so that no loop is one
+    open-parameter curve from end to end.
+    """
+    tool = entity.construction_tool()
+    ctrl = _flat_xy(entity, tool.control_points, where)
+    whole = SplineCurve.from_bspline(tool)
+    extent = float(np.max(np.ptp(ctrl, axis=0))) if len(ctrl) else 0.0
+    pieces = monotone_pieces(whole, extent) if extent > 0 else None
+    if pieces is None:
+        xy = whole.point(np.unique(np.clip(whole.knots, whole.t0, whole.t1)))
+        return _straight(xy)
+    ends = whole.point([whole.t0, whole.t1])
+    if len(pieces) == 1 and np.hypot(*(ends[1] - ends[0])) <= 1e-3 * extent:
+        middle = 0.5 * (whole.t0 + whole.t1)
+        pieces = [whole.restricted(whole.t0, middle), whole.restricted(middle, whole.t1)]
+    parts, tags = [ends[:1]], []
+    for k, piece in enumerate(pieces):
+        grid = np.unique(np.concatenate([
+            np.linspace(piece.t0, piece.t1, 5),
+            [kn for kn in whole.knots if piece.t0 < kn < piece.t1]]))
+        pts = piece.point(_curve_params(piece, grid, chord))
+        parts.append(pts[1:])
+        tags.append(np.full(len(pts) - 1, k, dtype=np.int64))
+    return _Path(np.vstack(parts), np.concatenate(tags), tuple(pieces))
+
+
+def _flatten(entity, chord: float, where: str) -> list[_Path] | None:
+    """Flatten one geometry entity into paths (world XY); [] if it is empty."""
     kind = entity.dxftype()
     if kind == "LINE":
         a, b = entity.dxf.start, entity.dxf.end
         if a[2] != b[2]:  # a sloping line; the check gives the message
-            return [_flat_xy(entity, [a, b], where)]
-        return [np.array([[a[0], a[1]], [b[0], b[1]]], dtype=float)]
+            return [_straight(_flat_xy(entity, [a, b], where))]
+        return [_straight(np.array([[a[0], a[1]], [b[0], b[1]]], dtype=float))]
     if kind in ("ARC", "CIRCLE"):
         _plane_check(entity, where)
         c, r = entity.dxf.center, float(entity.dxf.radius)
@@ -257,14 +405,16 @@ def _flatten(entity, chord: float, where: str) -> list[np.ndarray] | None:
         xy = _arc_points((c[0], c[1]), r, a0, sweep, chord)
         if kind == "CIRCLE":
             xy[-1] = xy[0]
-        return [_to_wcs(entity, xy, float(c[2]))]
+        cw = _to_wcs(entity, np.array([[c[0], c[1]]], dtype=float), float(c[2]))[0]
+        return [_Path(_to_wcs(entity, xy, float(c[2])), np.zeros(len(xy) - 1, dtype=np.int64),
+                      (Circle(float(cw[0]), float(cw[1]), r),))]
     if kind == "LWPOLYLINE":
         _plane_check(entity, where)
         pts = np.array(list(entity.get_points("xyb")), dtype=float).reshape(-1, 3)
         if len(pts) < 2:
             return []
-        xy = _bulged_polyline(pts[:, :2], pts[:, 2], bool(entity.closed), chord)
-        return [_to_wcs(entity, xy, float(entity.dxf.elevation))]
+        return [_bulged_polyline(entity, pts[:, :2], pts[:, 2], bool(entity.closed), chord,
+                                 float(entity.dxf.elevation))]
     if kind == "POLYLINE":
         if entity.is_2d_polyline:
             _plane_check(entity, where)
@@ -272,28 +422,23 @@ def _flatten(entity, chord: float, where: str) -> list[np.ndarray] | None:
             if len(verts) < 2:
                 return []
             pts = np.array([(v.dxf.location[0], v.dxf.location[1], v.dxf.bulge) for v in verts])
-            xy = _bulged_polyline(pts[:, :2], pts[:, 2], bool(entity.is_closed), chord)
-            return [_to_wcs(entity, xy, float(verts[0].dxf.location[2]))]
+            return [_bulged_polyline(entity, pts[:, :2], pts[:, 2], bool(entity.is_closed),
+                                     chord, float(verts[0].dxf.location[2]))]
         if entity.is_3d_polyline:
             xy = _flat_xy(entity, [v.dxf.location for v in entity.vertices], where)
             if len(xy) < 2:
                 return []
             if entity.is_closed:
                 xy = np.vstack([xy, xy[:1]])
-            return [xy]
+            return [_straight(xy)]
         return None  # meshes and polyface meshes: not an outline
     if kind == "ELLIPSE":
         _plane_check(entity, where)
-        xy = _vec_xy(entity.flattening(chord, segments=16))
-        if len(xy) < 2:
-            return []
-        span = (entity.dxf.end_param - entity.dxf.start_param) % (2.0 * math.pi)
-        if span == 0.0 or abs(span - 2.0 * math.pi) < 1e-12:
-            xy[-1] = xy[0]
-        return [xy]
+        path = _ellipse(entity, chord)
+        return [] if path is None else [path]
     if kind == "SPLINE":
-        xy = _flat_xy(entity, entity.flattening(chord, segments=8), where)
-        return [xy] if len(xy) >= 2 else []
+        path = _spline(entity, chord, where)
+        return [path] if len(path.xy) >= 2 else []
     return None
 
 
@@ -588,31 +733,72 @@ def _check_nodes(pieces: list[_Piece], ends: _Ends, size: float, jtol: float, wi
     )
 
 
-def _trace(pieces: list[_Piece], ends: _Ends) -> list[tuple[np.ndarray, list[int]]]:
-    """Chain pieces (every node of degree 2) into closed loops."""
+def _joints(pieces: list[_Piece], ends: _Ends) -> np.ndarray:
+    """Where each node goes in the loops, keeping vertices on their curves.
+
+    Between two straight edges: the mean of the ends joined there.  Where one
+    curved edge arrives: its own end, which is on its curve (the straight
+    edge's end moves by at most the gap).  Between two different curves: their
+    intersection when there is one within the gap, else the end of the first
+    (on its curve, and within the gap of the other: tangent curves, such as a
+    fillet meeting a shaft circle, need not cross when the ends were rounded).
+    """
+    pos = ends.pos.copy()
+    for node, inc in ends.incident.items():
+        curved = [(c, pieces[k].xy[0 if e == 0 else -1]) for k, e in inc
+                  if (c := pieces[k].end_curve(e)) is not None]
+        if not curved:
+            continue
+        c1, x1 = curved[0]
+        pos[node] = x1
+        if len(curved) < 2 or curved[1][0] == c1:
+            continue
+        c2, x2 = curved[1]
+        gap = float(np.hypot(*(x2 - x1)))
+        if gap > 0.0:
+            mid = 0.5 * (x1 + x2)
+            meet = _intersection(c1, c2, mid)
+            off = max(c1.distance(meet)[0], c2.distance(meet)[0])
+            if np.hypot(*(meet - mid)) <= gap and off <= 1e-3 * gap:
+                pos[node] = meet
+    return pos
+
+
+def _trace(pieces: list[_Piece], ends: _Ends
+           ) -> list[tuple[np.ndarray, np.ndarray, list[int]]]:
+    """Chain pieces (every node of degree 2) into closed loops.
+
+    Returns, per loop, its vertices, the curve of each edge (an index into
+    the pieces' curves taken in order, -1 straight) and the pieces in it.
+    """
+    first = np.cumsum([0] + [len(p.path.curves) for p in pieces])  # global curve numbers
+    joint = _joints(pieces, ends)
     used = np.zeros(len(pieces), dtype=bool)
     loops = []
     for k0 in range(len(pieces)):
         if used[k0]:
             continue
-        pts, members = [], []
+        pts, tags, members = [], [], []
         k, forward = k0, True
         start_node = int(ends.node[k0][0])
         while True:
             used[k] = True
             members.append(k)
-            xy = pieces[k].xy if forward else pieces[k].xy[::-1]
+            path = pieces[k].path
+            edge = np.where(path.edge >= 0, path.edge + first[k], -1)
+            xy, edge = (path.xy, edge) if forward else (path.xy[::-1], edge[::-1])
             a, b = (ends.node[k] if forward else ends.node[k][::-1])
             seg = xy.copy()
-            seg[0], seg[-1] = ends.pos[a], ends.pos[b]
+            seg[0], seg[-1] = joint[a], joint[b]
             pts.append(seg[:-1])
+            tags.append(edge)
             if int(b) == start_node:
                 break
             arrived = (k, 1 if forward else 0)
             nxt = [inc for inc in ends.incident[int(b)] if inc != arrived]
             k, e = nxt[0]
             forward = e == 0
-        loops.append((np.vstack(pts), members))
+        loops.append((np.vstack(pts), np.concatenate(tags), members))
     return loops
 
 
@@ -639,9 +825,10 @@ def read_dxf(
     layers : str or sequence of str, optional
         Read only entities on these layers (case-insensitive).  Default: all.
     chord_tolerance : float, optional
-        Largest distance between a curve and its flattened polyline, in
-        drawing units.  Default ``1e-5`` times the drawing size, which keeps
-        the error in J below 1e-4 (module docstring).
+        Largest distance between a curve and the starting polyline, in
+        drawing units.  Default ``1e-5`` times the drawing size.  The curves
+        themselves go to the solver, so this does not set the error of J
+        (module docstring).
     join_tolerance : float, optional
         End points closer than this (drawing units) are joined.  Default
         ``1e-5`` times the drawing size.
@@ -649,7 +836,8 @@ def read_dxf(
     Returns
     -------
     Profile
-        Labelled by loop with the handles of its entities.
+        Labelled by loop with the handles of its entities; curved edges
+        tagged with their exact curves (``curves``, ``edge_curves``).
 
     Raises
     ------
@@ -698,7 +886,7 @@ def read_dxf(
             log.warning("%s: ignored %s #%s (a mesh, not an outline)", where, e.dxftype(),
                         e.dxf.handle)
             continue
-        rough.extend(parts)
+        rough.extend(part.xy for part in parts)
         kept.append(e)
     if not rough:
         found = f" (found only {', '.join(sorted(skipped))})" if skipped else ""
@@ -717,11 +905,11 @@ def read_dxf(
 
     pieces: list[_Piece] = []
     for e in kept:
-        for xy in _flatten(e, chord, where):
-            p = _Piece(xy, e.dxftype(), str(e.dxf.handle), str(e.dxf.layer))
+        for flat in _flatten(e, chord, where):
+            p = _Piece(flat, e.dxftype(), str(e.dxf.handle), str(e.dxf.layer))
             if p.length <= jtol:
                 log.warning("%s: ignored %s at %s, shorter than the join tolerance %s",
-                            where, p.name, _pt(xy[0]), _fmt(jtol))
+                            where, p.name, _pt(p.xy[0]), _fmt(jtol))
                 continue
             pieces.append(p)
     if not pieces:
@@ -732,14 +920,19 @@ def read_dxf(
     ends = _Ends(pieces, jtol)
     _check_nodes(pieces, ends, size, jtol, width, where, present, ulabel)
     traced = _trace(pieces, ends)
-    loops = [xy for xy, _ in traced]
-    names = [_names([pieces[k] for k in members]) for _, members in traced]
+    loops = [xy for xy, _, _ in traced]
+    names = [_names([pieces[k] for k in members]) for _, _, members in traced]
     order = _nest(loops, names, where)
     labels = [f"{where} {'outside' if i == 0 else 'hole'} loop ({names[k]})"
               for i, k in enumerate(order)]
-    log.info("%s: %d entities in %d loops, unit %s", where, len(pieces), len(loops), unit)
+    curves = [c for p in pieces for c in p.path.curves]
+    if factor != 1.0:
+        curves = [c.moved(np.eye(2) * factor, (0.0, 0.0)) for c in curves]
+    log.info("%s: %d entities in %d loops, unit %s, %d exact curves", where, len(pieces),
+             len(loops), unit, len(curves))
     return Profile.from_loops([loops[k] * factor for k in order], units=unit, name=path.stem,
-                              labels=labels)
+                              labels=labels, curves=curves,
+                              edge_curves=[traced[k][1] for k in order])
 
 
 def _nest(loops: list[np.ndarray], names: list[str], where: str) -> list[int]:
