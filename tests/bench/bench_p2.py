@@ -1,4 +1,4 @@
-"""Benchmark: linear (P1) vs quadratic (P2) triangles on uniform meshes.
+"""Benchmark: linear (P1) vs quadratic (P2, isoparametric on curves) triangles on uniform meshes.
 
 Run::
 
@@ -6,18 +6,23 @@ Run::
 
 Cases
 -----
-* rectangle 2 x 1 (smooth away from its convex corners); reference: the
-  Saint-Venant series (Timoshenko & Goodier, Theory of Elasticity, 3rd ed.,
-  sec. 109) for J and tau_max.
-* keyed shaft: 40 mm diameter, 12 x 5 mm keyway (floor 5 mm below the top of
-  the shaft), 0.4 mm floor fillets; reference: P2 on the h = 1 mm mesh
-  split uniformly twice (its own bracket is printed).
-  The P2 peak skips nodes near re-entrant polygon vertices (the flattened concave
-  fillets; see ``boundary_peak_p2``); P1 uses the core's patch recovery.
+* rectangle 2 x 1 (straight outline); reference: the Saint-Venant series
+  (Timoshenko & Goodier, Theory of Elasticity, 3rd ed., sec. 109).
+* round bar 40 mm and ellipse 40 x 20 mm with their exact curves; references:
+  the closed forms (same book, sec. 104-106).  The J bounds are those of the
+  drawn outline (``bounds_scope == "curves"``).
+* keyed shaft: 40 mm, DIN 6885-1 keyway with its floor fillets, all exact
+  circles (``soapfilm.shapes.keyed_shaft``); reference: P2 on the h = 2 mm
+  mesh split uniformly three times (its own bracket is printed; the peak
+  sits on a 0.25 mm fillet, which uniform h does not refine, so the
+  splitting sweep is the one that converges).
+* the two constructions of the P2 drawn-outline bounds on the round bar:
+  curved (parabolic edges certified against the circle) and straight
+  (the inner and outer polygons).
 
-For each mesh size the wall time of the solve (both problems, indicators and
-the boundary peak; meshing excluded) is the median of
-3 runs.  Not a test: nothing is asserted.
+For each mesh the wall time of the solve (both problems, indicators, the
+drawn-outline bounds and the boundary peak; meshing excluded) is the median
+of 3 runs.  Not a test: nothing is asserted.
 """
 
 from __future__ import annotations
@@ -32,7 +37,14 @@ from soapfilm.fem.p2 import boundary_peak_p2, p2_nodes, solve_torsion_p2, unifor
 from soapfilm.fem.torsion import solve_torsion
 from soapfilm.mesh import mesh_profile
 from soapfilm.profile import Profile
+from soapfilm.shapes import ellipse, round_bar
+from soapfilm.shapes.shafts import keyed_shaft
 from soapfilm.solve import boundary_peak
+
+HEADER = (
+    "| case | order | h | elements | nodes | solve s (median) | (J_hi-J_lo)/J | J_lo err | J_hi err"
+    " | tau_max err |\n|---|---|---|---|---|---|---|---|---|---|"
+)
 
 
 def rectangle_reference(b: float, t: float, terms: int = 200) -> tuple[float, float]:
@@ -43,30 +55,6 @@ def rectangle_reference(b: float, t: float, terms: int = 200) -> tuple[float, fl
     sech = 2.0 * np.exp(-z) / (1.0 + np.exp(-2.0 * z))
     tau = t * (1.0 - 8.0 / np.pi**2 * np.sum(sech / n**2))
     return float(j), float(tau)
-
-
-def keyed_shaft(d=40.0, width=12.0, depth=5.0, fillet=0.4, chord_deg=1.0, fillet_pts=24):
-    """Outer loop (counter-clockwise) of a shaft with one keyway at the top.
-
-    The keyway walls are at x = +-width/2, the floor at y = d/2 - depth, the
-    two floor corners rounded with radius ``fillet``.  The shaft arc is
-    flattened with chords of ``chord_deg`` degrees, each fillet with
-    ``fillet_pts`` chords.
-    """
-    r = d / 2.0
-    hw = width / 2.0
-    yf = r - depth
-    a0 = np.arctan2(np.sqrt(r * r - hw * hw), -hw)  # left wall meets the circle
-    a1 = np.arctan2(np.sqrt(r * r - hw * hw), hw) + 2 * np.pi  # right wall, after a full turn
-    nseg = int(np.ceil(np.degrees(a1 - a0) / chord_deg))
-    s = np.linspace(a0, a1, nseg + 1)
-    arc = np.column_stack([r * np.cos(s), r * np.sin(s)])  # left top -> around -> right top
-    s_r = np.linspace(0.0, -0.5 * np.pi, fillet_pts + 1)  # right fillet, centre (hw-f, yf+f)
-    cx, cy = hw - fillet, yf + fillet
-    right = np.column_stack([cx + fillet * np.cos(s_r), cy + fillet * np.sin(s_r)])
-    s_l = np.linspace(-0.5 * np.pi, -np.pi, fillet_pts + 1)  # left fillet, centre (-hw+f, yf+f)
-    left = np.column_stack([-cx + fillet * np.cos(s_l), cy + fillet * np.sin(s_l)])
-    return np.concatenate([arc, right, left])
 
 
 def timed(fn, repeats):
@@ -80,19 +68,27 @@ def timed(fn, repeats):
 
 def run_p1(mesh):
     f = solve_torsion(mesh)
-    peak, _, _ = boundary_peak(mesh, f)
-    return f.j_lo, f.j_hi, peak
+    return f.j_lo, f.j_hi, boundary_peak(mesh, f).value
 
 
-def run_p2(mesh):
-    f = solve_torsion_p2(mesh)
-    return f.j_lo, f.j_hi, boundary_peak_p2(f, skip_reentrant=True).value
+def run_p2(mesh, outline="auto"):
+    f = solve_torsion_p2(mesh, outline=outline)
+    return f.j_lo, f.j_hi, boundary_peak_p2(f).value
+
+
+def row(name, order, h, mesh, dofs, sec, lo, hi, tau, j_ref, tau_ref):
+    jm = 0.5 * (lo + hi)
+    print(
+        f"| {name} | {order} | {h:g} | {mesh.nelements} | {dofs} | {sec:.3f}"
+        f" | {(hi - lo) / jm:.2e} | {lo / j_ref - 1:+.2e} | {hi / j_ref - 1:+.2e}"
+        f" | {tau / tau_ref - 1:+.2e} |",
+        flush=True,
+    )
 
 
 def sweep(name, profile, sizes, j_ref, tau_ref, repeats, split_from=None):
     """One table block; with ``split_from`` the meshes are the mesh of that
     size split uniformly ``h`` times (``sizes`` then holds split levels)."""
-    rows = []
     for order, run in (("P1", run_p1), ("P2", run_p2)):
         for h in sizes[order]:
             if split_from is None:
@@ -102,21 +98,8 @@ def sweep(name, profile, sizes, j_ref, tau_ref, repeats, split_from=None):
                 for _ in range(h):
                     mesh = uniformly_refined(mesh)
             sec, (lo, hi, tau) = timed(lambda m=mesh, r=run: r(m), repeats)
-            jm = 0.5 * (lo + hi)
-            rows.append(
-                dict(case=name, order=order, h=h, elements=mesh.nelements,
-                     dofs=mesh.nnodes if order == "P1" else p2_nodes(mesh).nnodes, time=sec,
-                     width=(hi - lo) / jm, jerr=(jm - j_ref) / j_ref,
-                     tauerr=(tau - tau_ref) / tau_ref)
-            )
-            r = rows[-1]
-            print(
-                f"| {name} | {order} | {h:g} | {r['elements']} | {r['dofs']} | {sec:.3f}"
-                f" | {r['width']:.2e}"
-                f" | {r['jerr']:+.2e} | {r['tauerr']:+.2e} |",
-                flush=True,
-            )
-    return rows
+            dofs = mesh.nnodes if order == "P1" else p2_nodes(mesh).nnodes
+            row(name, order, h, mesh, dofs, sec, lo, hi, tau, j_ref, tau_ref)
 
 
 def main(argv=None):
@@ -124,48 +107,70 @@ def main(argv=None):
     ap.add_argument("--quick", action="store_true", help="fewer sizes, one run")
     args = ap.parse_args(argv)
     repeats = 1 if args.quick else 3
-    header = (
-        "| case | order | h | elements | nodes | solve s (median) | (J_hi-J_lo)/J | J err"
-        " | tau_max err |\n|---|---|---|---|---|---|---|---|---|"
-    )
 
     b, t = 2.0, 1.0
     rect = Profile.from_loops([[(0, 0), (b, 0), (b, t), (0, t)]])
     j_ref, tau_ref = rectangle_reference(b, t)
-    rect_sizes = {
-        "P1": [0.1, 0.05, 0.025, 0.0125, 0.00625],
-        "P2": [0.2, 0.1, 0.05, 0.025],
-    }
+    sizes = {"P1": [0.1, 0.05, 0.025, 0.0125], "P2": [0.2, 0.1, 0.05, 0.025]}
     if args.quick:
-        rect_sizes = {"P1": [0.1, 0.025], "P2": [0.2, 0.05]}
+        sizes = {"P1": [0.1, 0.025], "P2": [0.2, 0.05]}
     print(f"rectangle {b} x {t}: J = {j_ref:.10g}, tau_max = {tau_ref:.10g} (series)")
-    print(header)
-    sweep("rect 2x1", rect, rect_sizes, j_ref, tau_ref, repeats)
+    print(HEADER)
+    sweep("rect 2x1", rect, sizes, j_ref, tau_ref, repeats)
 
-    shaft = Profile.from_loops([keyed_shaft()], units="mm")
-    shaft_sizes = {"P1": [2.0, 1.0, 0.5, 0.25, 0.125], "P2": [4.0, 2.0, 1.0, 0.5]}
+    # closed forms (per unit G*theta): circle J = pi R^4 / 2, tau = R; ellipse
+    # a >= b: J = pi a^3 b^3 / (a^2 + b^2), tau = 2 a^2 b / (a^2 + b^2)
+    curved = [
+        ("round 40", round_bar(40.0), np.pi * 20.0**4 / 2.0, 20.0),
+        ("ellipse 40x20", ellipse(40.0, 20.0), np.pi * 20.0**3 * 10.0**3 / 500.0,
+         2.0 * 400.0 * 10.0 / 500.0),
+    ]
+    sizes = {"P1": [2.0, 1.0, 0.5, 0.25], "P2": [4.0, 2.0, 1.0, 0.5]}
     if args.quick:
-        shaft_sizes = {"P1": [2.0, 0.5], "P2": [4.0, 1.0]}
-    ref_mesh = uniformly_refined(uniformly_refined(mesh_profile(shaft, 1.0)))
+        sizes = {"P1": [2.0, 0.5], "P2": [4.0, 1.0]}
+    for name, prof, j_ref, tau_ref in curved:
+        print(f"\n{name}: J = {j_ref:.10g}, tau_max = {tau_ref:.10g} (closed form)")
+        print(HEADER)
+        sweep(name, prof, sizes, j_ref, tau_ref, repeats)
+        print(f"\n{name}, h = 4 mesh split uniformly (column h = number of splits)")
+        print(HEADER)
+        sweep(name + " split", prof, {"P1": [], "P2": [0, 1, 2, 3] if not args.quick else [0, 2]},
+              j_ref, tau_ref, repeats, split_from=4.0)
+
+    name, prof, j_ref, tau_ref = curved[0]
+    print(f"\n{name}: P2 drawn-outline bounds, curved vs straight construction")
+    print(HEADER)
+    for h in sizes["P2"]:
+        mesh = mesh_profile(prof, h)
+        for how in ("auto", "straight"):
+            sec, (lo, hi, tau) = timed(lambda m=mesh, o=how: run_p2(m, o), repeats)
+            row(name, "P2 " + ("curved" if how == "auto" else how), h, mesh,
+                p2_nodes(mesh).nnodes, sec, lo, hi, tau, j_ref, tau_ref)
+
+    shaft = keyed_shaft(40.0)
+    ref_mesh = mesh_profile(shaft, 2.0)
+    for _ in range(3):
+        ref_mesh = uniformly_refined(ref_mesh)
     t0 = time.perf_counter()
-    fr = solve_torsion_p2(ref_mesh, method="direct")
-    pr = boundary_peak_p2(fr, skip_reentrant=True)
+    fr = solve_torsion_p2(ref_mesh)
+    pr = boundary_peak_p2(fr)
     j_ref = 0.5 * (fr.j_lo + fr.j_hi)
-    width = (fr.j_hi - fr.j_lo) / j_ref
     print(
         f"\nkeyed shaft reference: P2, {ref_mesh.nelements} elements, "
-        f"J in [{fr.j_lo:.10g}, {fr.j_hi:.10g}] mm^4 (rel. width {width:.1e}),"
+        f"J in [{fr.j_lo:.10g}, {fr.j_hi:.10g}] mm^4 (rel. width {(fr.j_hi - fr.j_lo) / j_ref:.1e}),"
         f" tau_max = {pr.value:.6g} (warping {pr.warping_value:.6g}) mm per unit G*theta"
         f" at ({pr.xy[0]:.3f}, {pr.xy[1]:.3f}), {time.perf_counter() - t0:.1f} s"
     )
-    print(header)
-    sweep("keyed shaft", shaft, shaft_sizes, j_ref, pr.value, repeats)
-    # the fillet elements are set by the fillet chords, not by h: split uniformly instead
+    print(HEADER)
+    sizes = {"P1": [2.0, 1.0, 0.5, 0.25], "P2": [4.0, 2.0, 1.0, 0.5]}
+    if args.quick:
+        sizes = {"P1": [2.0, 0.5], "P2": [4.0, 1.0]}
+    sweep("keyed shaft", shaft, sizes, j_ref, pr.value, repeats)
     levels = {"P1": [0, 1, 2, 3], "P2": [0, 1, 2]}
     if args.quick:
         levels = {"P1": [0, 1], "P2": [0, 1]}
     print("\nkeyed shaft, h = 2 mm mesh split uniformly (column h = number of splits)")
-    print(header)
+    print(HEADER)
     sweep("keyed shaft split", shaft, levels, j_ref, pr.value, repeats, split_from=2.0)
 
 
