@@ -242,7 +242,7 @@ def _param_span(cv: Curve, a: np.ndarray, b: np.ndarray) -> tuple[np.ndarray, np
     return ta, tb
 
 
-def _curve_midpoints(mesh: Mesh) -> tuple[np.ndarray, np.ndarray]:
+def _curve_midpoints(mesh: Mesh) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Mid-nodes of the curved boundary segments on their curves.
 
     The point at the parameter midpoint of the segment's end nodes; if that
@@ -949,10 +949,12 @@ def outline_domains(mesh: Mesh, nodes: P2Nodes, construction: str = "auto") -> O
       coefficient).  ``sign`` is the sign of ``F`` a quarter chord into the
       material: the side of the conic is the side of the drawn curve within
       that distance of the edge, and the moves are far smaller.
-    * any other curve (involute, spline piece): the curve turns one way
-      only, so between close samples it stays inside the triangle of their
-      tangents, and the edge must clear that envelope
-      (:class:`_EnvelopeCheck`).
+    * involute (possibly moved): the curve turns one way only, so between
+      close samples it stays inside the triangle of their tangents, and the
+      edge must clear that envelope (:class:`_EnvelopeCheck`).  Other curves
+      (a drawing's spline pieces) go to the straight construction: the check
+      samples one step beyond each end of the piece, where a spline piece may
+      already turn the other way.
 
     Straight boundary edges at a moved end tilt into (out of) the material
     (the bisector makes an angle under 87 degrees with their normal,
@@ -964,8 +966,9 @@ def outline_domains(mesh: Mesh, nodes: P2Nodes, construction: str = "auto") -> O
     ``docs/notes/p2.md``.  If a check fails the straight construction is
     used.
 
-    Straight construction (a curve-tagged segment left straight, the
-    curved construction failing, or asked for): the inner and outer polygons of
+    Straight construction (spline pieces, a curve-tagged segment left
+    straight, the curved construction failing, or asked for): the inner and
+    outer polygons of
     :func:`soapfilm.fem.outline.outline_polygons` (tangent-triangle argument
     there) with every mid-node at the midpoint of its moved corners, all
     elements straight.  Their moves are of the order of the sagitta,
@@ -1035,7 +1038,7 @@ _S_DENSE = np.linspace(0.0, 1.0, 33)
 
 
 class _EnvelopeCheck:
-    """Which side of any monotone-turning curve the quadratic edges of one curve lie on.
+    """Which side of an involute the quadratic edges of one curve lie on.
 
     The curve piece of each edge is sampled at ``N + 3`` parameters (one step
     beyond each end, so a moved end node stays covered).  Between two samples
@@ -1065,7 +1068,11 @@ class _EnvelopeCheck:
         n_sub = int(np.clip(np.ceil(25.0 / max(float(turn.max()), 1e-3)), 8, 256))
         k = np.arange(-1, n_sub + 2) / n_sub  # (P,)
         t = ta[:, None] + (tb - ta)[:, None] * k[None, :]  # (E, P)
-        if isinstance(cv, Involute) and np.any(t < 0):  # the other branch of the involute
+        # the step beyond each end must still turn the same way: true for an
+        # involute on its branch t > 0 (curvature 1 / (rb t)); a spline piece
+        # ends at an inflection or a corner, so it is not taken here
+        base = cv.base if isinstance(cv, Moved) else cv
+        if not isinstance(base, Involute) or np.any(t <= 0):
             self.ok = False
             return
         pts = cv.point(t.ravel()).T.reshape(2, *t.shape)
