@@ -92,7 +92,9 @@ def test_point_list_batch_against_roark(tmp_path):
     """Point lists of a circle and an equilateral triangle against pi d^4/32 and
     sqrt(3) a^4/80, tau/T = 16/(pi d^3) and 20/a^3 (Roark's Formulas for Stress and
     Strain, 7th ed., Table 10.1).  The 256-gon's J is below the circle's by about
-    (2 pi^2/3)/N^2 * 2 ~ 2e-4, inside rtol 2e-3."""
+    (2 pi^2/3)/N^2 * 2 ~ 2e-4, inside rtol 2e-3.  Its boundary stress stands above the
+    circle's by about 1.4/N = 0.55 % (the polygon effect the outline warning names;
+    shared design notes, measured 0.6 %), so tau is held to 1e-2 there."""
     circ = _points_file(tmp_path / "circle.txt", circle_points(10.0, 256))
     tri = _points_file(tmp_path / "tri.txt", triangle_points(30.0))
     tri_profile = Profile.from_loops([triangle_points(30.0)], units="mm")
@@ -102,7 +104,7 @@ def test_point_list_batch_against_roark(tmp_path):
     assert [r["label"] for r in rows] == ["circle", "triangle", "triangle object"]
     j, tau = circle(20.0)
     assert rows[0]["J"] == pytest.approx(j, rel=2e-3)
-    assert rows[0]["tau_max_per_T"] == pytest.approx(tau, rel=5e-3)
+    assert rows[0]["tau_max_per_T"] == pytest.approx(tau, rel=1e-2)
     assert rows[0]["inputs"] == {"file": str(circ)}
     j, tau = equilateral_triangle(30.0)
     for r in rows[1:]:

@@ -32,9 +32,10 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from .geometry.edges import junction_corners
 from .profile import Profile
 
-__all__ = ["Corner", "TracedRun", "reentrant_corners", "traced_runs", "junction_angles",
+__all__ = ["Corner", "TracedRun", "reentrant_corners", "traced_runs",
            "DEFAULT_CORNER_TOL_DEG", "CORNER_ZONE_FRACTION", "TRACE_MAX_TURN_DEG"]
 
 #: Interior angles above 180 + this many degrees count as sharp re-entrant corners.
@@ -88,40 +89,6 @@ class TracedRun:
         return 90.0 / max(float(np.mean(np.abs(self.turn_deg))), 1e-12)
 
 
-def _unit(v: np.ndarray) -> np.ndarray:
-    return v / np.maximum(np.hypot(v[:, 0], v[:, 1]), 1e-300)[:, None]
-
-
-def junction_angles(profile: Profile) -> list[tuple[int, np.ndarray, np.ndarray]]:
-    """Per loop: the junction vertices and their interior angles (degrees).
-
-    A junction is a vertex whose incoming and outgoing edges lie on different
-    pieces (curve indices differ, or both are straight).  Directions along the
-    loop come from the curves' tangents where an edge is curved.
-    """
-    out = []
-    for k, (loop, tags) in enumerate(zip(profile.loops, profile.edge_curves, strict=True)):
-        n = len(loop)
-        prev = np.roll(tags, 1)
-        junction = (prev != tags) | (tags < 0)
-        idx = np.flatnonzero(junction)
-        d_in = _unit(loop[idx] - loop[(idx - 1) % n])
-        d_out = _unit(loop[(idx + 1) % n] - loop[idx])
-        for arr, edge_curve, sign_ref in ((d_in, prev[idx], d_in), (d_out, tags[idx], d_out)):
-            for c in np.unique(edge_curve[edge_curve >= 0]):
-                sel = np.flatnonzero(edge_curve == c)
-                cv = profile.curves[c]
-                tan = _unit(cv.derivative(cv.project(loop[idx[sel]])))
-                # orient the tangent along the loop, as the chord runs
-                sgn = np.sign(np.einsum("ij,ij->i", tan, sign_ref[sel]))
-                arr[sel] = tan * np.where(sgn == 0, 1.0, sgn)[:, None]
-        cross = d_in[:, 0] * d_out[:, 1] - d_in[:, 1] * d_out[:, 0]
-        dot = np.einsum("ij,ij->i", d_in, d_out)
-        interior = 180.0 - np.degrees(np.arctan2(cross, dot))
-        out.append((k, idx, interior))
-    return out
-
-
 def traced_runs(profile: Profile, max_turn_deg: float = TRACE_MAX_TURN_DEG) -> list[TracedRun]:
     """Runs of straight-edge polygon vertices that trace a curve.
 
@@ -157,8 +124,8 @@ def traced_runs(profile: Profile, max_turn_deg: float = TRACE_MAX_TURN_DEG) -> l
                 idx.append(int(nxt[idx[-1]]))
             ii = np.array(idx)
             chord = np.minimum(l_in[ii], l_out[ii])
-            # radius of the circle through a vertex and its neighbours: l / (2 sin(turn))
-            rad = 0.5 * (l_in[ii] + l_out[ii]) / (2.0 * np.sin(np.radians(np.abs(turn[ii]))))
+            # radius of the circle through a vertex and its neighbours: l / (2 sin(turn / 2))
+            rad = 0.5 * (l_in[ii] + l_out[ii]) / (2.0 * np.sin(np.radians(0.5 * np.abs(turn[ii]))))
             runs.append(TracedRun(k, loop[ii].copy(), turn[ii].copy(), float(np.mean(rad)), chord,
                                   ii))
     return runs
@@ -176,10 +143,8 @@ def reentrant_corners(profile: Profile, tol_deg: float = DEFAULT_CORNER_TOL_DEG)
     for run in traced_runs(profile):
         traced[run.loop][run.index] = True
     found = []
-    for k, idx, interior in junction_angles(profile):
-        loop = profile.loops[k]
-        skip = traced[k][idx]
-        for j in np.flatnonzero((interior > 180.0 + tol_deg) & ~skip):
-            i = idx[j]
-            found.append(Corner(float(loop[i, 0]), float(loop[i, 1]), float(interior[j]), k))
+    for k, i, interior in junction_corners(profile, tol_deg):
+        if not traced[k][i]:
+            x, y = profile.loops[k][i]
+            found.append(Corner(float(x), float(y), float(interior), k))
     return tuple(found)

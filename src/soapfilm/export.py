@@ -88,17 +88,18 @@ def result_to_meshio(result, torque: float | None = None, stress_unit: str = "MP
     from .plots import nodal_shear
 
     mesh, f = result.mesh, result.fields
+    tau = nodal_shear(result)
+    t = np.asarray(mesh.t)
     n = mesh.nnodes
     points = np.zeros((n, 3))
     points[:, :2] = mesh.p.T
-    t = np.asarray(mesh.t)
     cell_type = "triangle" if t.shape[0] == 3 else "triangle6"
-    tau = nodal_shear(result)
     vec = np.zeros((n, 3))
     vec[:, :2] = tau.T
     point_data = {
-        "phi": np.asarray(f.phi, dtype=float),
-        "omega": np.asarray(f.omega, dtype=float),
+        # quadratic elements: the values at the corner nodes, which come first
+        "phi": np.asarray(f.phi, dtype=float)[:n],
+        "omega": np.asarray(f.omega, dtype=float)[:n],
         "shear_per_torque": np.hypot(tau[0], tau[1]),
         "shear_vector_per_torque": vec,
     }

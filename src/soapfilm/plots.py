@@ -267,7 +267,7 @@ def plot_shear(result, ax=None, torque: float | None = None, stress_unit: str = 
     top = max(float(mag.max()), peak)
     pc = ax.tripcolor(tri, mag, shading="gouraud", cmap="viridis", vmin=0.0, vmax=top,
                       rasterized=True, zorder=1)
-    phi = np.asarray(result.fields.phi)
+    phi = np.asarray(result.fields.phi)[: mesh.nnodes]  # corner nodes come first (P2)
     if _is_wide(profile) or _is_wide(profile.transformed([[0, 1], [1, 0]])):
         levels = min(levels, 6)  # thin strips: fewer lines, or they hide the colours
     if np.ptp(phi) > 0 and levels > 0:
@@ -323,7 +323,7 @@ def plot_warping(result, ax=None, show_mesh: bool = False):
     mesh, profile = result.mesh, result.profile
     t = _corner_triangles(mesh)
     tri = _triangulation(mesh.p, t)
-    w = np.asarray(result.fields.omega, dtype=float)
+    w = np.asarray(result.fields.omega, dtype=float)[: mesh.nnodes]
     used = np.unique(t)
     lim = float(np.max(np.abs(w[used]))) or 1.0
     norm = TwoSlopeNorm(vcenter=0.0, vmin=-lim, vmax=lim)
@@ -356,7 +356,7 @@ def plot_stress_surface(result, ax=None):
     ax = _new_axes(ax, size=_SIZE_3D, projection="3d")
     mesh, profile = result.mesh, result.profile
     t = _corner_triangles(mesh)
-    phi = np.asarray(result.fields.phi, dtype=float)
+    phi = np.asarray(result.fields.phi, dtype=float)[: mesh.nnodes]
     tri = _triangulation(mesh.p, t)
     ax.plot_trisurf(tri, phi, cmap="viridis", linewidth=0.0, antialiased=False, rasterized=True)
     for loop in profile.loops:

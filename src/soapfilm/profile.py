@@ -116,7 +116,7 @@ class Profile:
             tags = tuple(np.ascontiguousarray(e, dtype=np.int64) for e in self.edge_curves)
         else:
             tags = tuple(np.full(len(lp), -1, dtype=np.int64) for lp in loops)
-        if len(tags) != len(loops) or any(len(e) != len(lp) for e, lp in zip(tags, loops)):
+        if len(tags) != len(loops) or any(len(e) != len(lp) for e, lp in zip(tags, loops, strict=False)):
             raise GeometryError("edge_curves must give one curve index per edge of every loop")
         if any(len(e) and e.max() >= len(self.curves) for e in tags):
             raise GeometryError("an edge refers to a curve that is not in the list")

@@ -43,10 +43,12 @@ class TorsionResult:
     fields : TorsionFields
         Nodal stress and warping functions (per unit G*theta).
     area, centroid, polar_moment : float, (float, float), float
-        Net area, centroid, polar moment of area about the centroid (Ip).
+        Net area, centroid, polar moment of area about the centroid (Ip), of
+        the drawn outline (curves integrated exactly).
     torsion_constant_bounds : (float, float)
-        Guaranteed ``(J_lo, J_hi)`` for the meshed polygon, from the
-        stress-function and warping-function solutions.
+        Guaranteed ``(J_lo, J_hi)`` from the stress-function and
+        warping-function solutions, for what :attr:`bounds_hold_for` says:
+        the drawn outline with its curves, or the polygon given.
     max_shear_per_torque : float
         Peak shear stress divided by the torque, tau_max / T.
     peak_location : (float, float)
@@ -111,6 +113,13 @@ class TorsionResult:
         """Diameter of the round bar with the same Wt: (16 Wt / pi)^(1/3)."""
         return diameter_same_strength(self.torsional_section_modulus)
 
+    @property
+    def bounds_hold_for(self) -> str:
+        """What the J bounds are guaranteed for (a sentence)."""
+        from .fem.torsion import BOUNDS_SCOPES
+
+        return BOUNDS_SCOPES[getattr(self.fields, "bounds_scope", "polygon")]
+
     def to_dict(self, include_mesh: bool = True) -> dict:
         """Plain-JSON dictionary; keys are stable (later versions only add)."""
         lo, hi = self.torsion_constant_bounds
@@ -122,6 +131,7 @@ class TorsionResult:
             "polar_moment": self.polar_moment,
             "torsion_constant": self.torsion_constant,
             "torsion_constant_bounds": [lo, hi],
+            "bounds_hold_for": self.bounds_hold_for,
             "max_shear_per_torque": self.max_shear_per_torque,
             "max_shear_per_torque_cross_check": self.max_shear_per_torque_warping,
             "torsional_section_modulus": self.torsional_section_modulus,
@@ -169,6 +179,7 @@ class TorsionResult:
             ("Torsion constant J", f"{j:.6g}", f"{u}^4"),
             ("  guaranteed bounds", f"[{lo:.6g}, {hi:.6g}]", f"{u}^4"),
             ("  relative half-width", f"{(hi - lo) / (hi + lo):.1e}", "-"),
+            ("  bounds hold for", self.bounds_hold_for, ""),
             ("J / Ip", f"{j / self.polar_moment:.4f}", "-"),
             ("Peak shear per unit torque", f"{self.max_shear_per_torque:.6g}", f"1/{u}^3"),
             ("  at (x, y)", xy(self.peak_location), u),
@@ -184,7 +195,7 @@ class TorsionResult:
                           f"{self.max_shear_per_torque_warping:.6g}", f"1/{u}^3"))
         if err is not None:
             extra.append(("  estimated relative error", f"{err:.1e}", "-"))
-        rows[9:9] = extra
+        rows[10:10] = extra
         return rows
 
     def _repr_html_(self) -> str:  # notebooks

@@ -20,14 +20,26 @@ from .corners import (
     reentrant_corners,
     traced_runs,
 )
-from .fem.torsion import TorsionFields, element_gradients, recovered_gradient, solve_torsion
+from .fem.torsion import (
+    TorsionFields,
+    boundary_corner_nodes,
+    boundary_flux_shear,
+    solve_torsion,
+)
+from .geometry.moments import outline_moments
 from .mesh import Mesh, mesh_profile
 from .profile import Profile
 from .result import TorsionResult
 
-__all__ = ["analyse", "result_from_mesh", "boundary_peak", "Peak", "solve_fields"]
+__all__ = ["analyse", "result_from_mesh", "boundary_peak", "Peak", "solve_fields", "DEFAULT_ORDER"]
 
 log = logging.getLogger(__name__)
+
+#: Element order used unless asked otherwise: quadratic triangles, isoparametric on
+#: curved edges.  Their boundary shear converges at order 2 in h where linear
+#: triangles' converges at order 1 (the peak shear is a boundary gradient), and their
+#: J bracket at order 4 against 2; measured in DEVELOPERS.md ("Accuracy").
+DEFAULT_ORDER = 2
 
 
 @dataclass(frozen=True)
@@ -38,9 +50,9 @@ class Peak:
     cross-check from the warping function; ``near_corner`` is the largest
     value inside the zones round sharp re-entrant corners (not a property of
     the section: the stress there is unbounded).  ``candidates`` are the
-    boundary places whose value, give or take their own two-field
-    disagreement, could be the peak (``(k, 2)`` input coordinates), with that
-    disagreement relative to the peak in ``candidate_error``.
+    boundary places that could hold the peak (``(k, 2)`` input coordinates):
+    within twice the peak's two-field disagreement of it (0.1 % to 2 %), with
+    their own disagreement relative to the peak in ``candidate_error``.
     """
 
     value: float
@@ -51,7 +63,7 @@ class Peak:
     candidates: np.ndarray = field(default_factory=lambda: np.zeros((0, 2)))
     candidate_error: np.ndarray = field(default_factory=lambda: np.zeros(0))
     traced: TracedRun | None = None  # the traced curve the peak sits on (polygons only)
-    traced_spread: float = 0.0  # relative spread of the shear along that traced curve
+    traced_effect: float = 0.0  # how much the polygon's points may move the peak there
 
 
 def solve_fields(mesh: Mesh, order: int = 1, method: str = "auto") -> TorsionFields:
@@ -68,25 +80,17 @@ def solve_fields(mesh: Mesh, order: int = 1, method: str = "auto") -> TorsionFie
 def boundary_shear(mesh: Mesh, fields: TorsionFields) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Shear magnitude at the boundary nodes from both fields.
 
-    Returns ``(nodes, tau_phi, tau_w)``.  For linear elements the element
-    gradients are patch-recovered at the nodes (see
-    :func:`~soapfilm.fem.torsion.recovered_gradient`); ``|grad phi|^2`` is
-    subharmonic, so the peak lies on the boundary.
+    Returns ``(nodes, tau_phi, tau_w)``.  For linear elements from the
+    consistent boundary flux of the stress function and the tangential
+    warping shear (:func:`~soapfilm.fem.torsion.boundary_flux_shear`);
+    ``|grad phi|^2`` is subharmonic, so the peak lies on the boundary.
     """
     if getattr(fields, "order", 1) == 2:
         from .fem.p2 import boundary_peak_p2
 
         pk = boundary_peak_p2(fields)  # node-averaged P2 gradients at every boundary P2 node
         return pk.nodes, pk.tau_phi, pk.tau_w
-    t = mesh.t[:3]
-    nodes = mesh.boundary_nodes
-    gphi = element_gradients(t, fields.elem_grad, fields.phi)
-    gw = element_gradients(t, fields.elem_grad, fields.omega)
-    rec = recovered_gradient(fields.p, t, fields.elem_area, np.vstack([gphi, gw]), nodes)
-    tau_phi = np.hypot(rec[0], rec[1])
-    xn, yn = fields.p[0, nodes], fields.p[1, nodes]
-    tau_w = np.hypot(rec[2] - yn, rec[3] + xn)
-    return nodes, tau_phi, tau_w
+    return boundary_flux_shear(mesh, fields)
 
 
 def corner_zone_radius(profile: Profile) -> float:
@@ -104,8 +108,10 @@ def boundary_peak(
     """Peak boundary shear: the largest recovered ``|tau|`` on the boundary.
 
     One rule for every outline: the maximum over the boundary nodes of the
-    stress-function shear, leaving out only the nodes within ``zone`` of a
-    sharp re-entrant corner (where the stress is unbounded).  Curved edges
+    stress-function shear, leaving out the corner nodes of the outline (zero
+    or unbounded shear, :func:`~soapfilm.fem.torsion.boundary_corner_nodes`)
+    and the nodes within ``zone`` of a sharp re-entrant corner (where the
+    stress is unbounded).  Curved edges
     have their nodes on the exact curve, so a fillet is a smooth boundary and
     needs no other exception.
 
@@ -119,7 +125,8 @@ def boundary_peak(
     """
     nodes, tau_phi, tau_w = boundary_shear(mesh, fields)
     xy = fields.p[:, nodes] + fields.origin[:, None]  # input coordinates (P2: midpoints too)
-    away = np.ones(len(nodes), dtype=bool)
+    bn, corner = boundary_corner_nodes(mesh)
+    away = ~np.isin(nodes, bn[corner])  # no finite peak at a corner node
     for c in corners:
         away &= np.hypot(xy[0] - c.x, xy[1] - c.y) > zone
     near = float(tau_phi[~away].max()) if np.any(~away) else 0.0
@@ -130,10 +137,14 @@ def boundary_peak(
         wxy = np.concatenate([r.xy for r in traced])
         wrad = 0.25 * np.concatenate([r.chord for r in traced])
         wrun = np.concatenate([np.full(len(r.xy), i) for i, r in enumerate(traced)])
+        concave = np.concatenate([np.full(len(r.xy), r.concave) for r in traced])
         tree = cKDTree(xy.T)
         inner = tree.query_ball_point(wxy, wrad * (1 - 1e-9), return_length=True)
         outer = tree.query_ball_point(wxy, 2.0 * wrad, return_length=True)
-        split = outer > inner  # some node between a quarter and half a chord away
+        # only the weak re-entrant corners of concave traced curves are singular;
+        # their zones apply where some node lies between a quarter and half a chord
+        # away (else the vertex nodes alone stand for the curve)
+        split = (outer > inner) & concave
         dist, idx = cKDTree(wxy).query(xy.T)
         on_run = dist <= 4.0 * wrad[idx] + 1e-12
         run_of[on_run] = wrun[idx[on_run]]
@@ -144,14 +155,21 @@ def boundary_peak(
         away[:] = True
     i = int(np.flatnonzero(away)[np.argmax(tau_phi[away])])
     node = int(nodes[i])
+    # places that could hold the peak: within twice the peak's own two-field
+    # disagreement of it (at least 0.1 %, at most 2 %)
+    spread = float(np.clip(2.0 * abs(tau_phi[i] - tau_w[i]) / tau_phi[i], 1e-3, 0.02))
+    cand = away & (tau_phi >= (1.0 - spread) * tau_phi[i])
     err = np.abs(tau_phi - tau_w)
-    cand = away & (tau_phi + err >= tau_phi[i])
     run = None
-    spread = 0.0
+    effect = 0.0
     if run_of[i] >= 0:
         run = traced[run_of[i]]
         along = run_of == run_of[i]
-        spread = float((tau_phi[along].max() - tau_phi[along & away].min()) / tau_phi[i])
+        # concave: how far the weak corners' own values stand above the peak read
+        # between them; convex: an inscribed polygon of N sides per turn raises the
+        # boundary stress by about 1.4 / N (shared/design.md, measured 0.59 % at N = 256)
+        effect = float(np.max(tau_phi[along]) / tau_phi[i] - 1.0) if run.concave else \
+            1.4 * float(np.mean(np.abs(run.turn_deg))) / 360.0
     return Peak(
         value=float(tau_phi[i]),
         node=node,
@@ -161,7 +179,7 @@ def boundary_peak(
         candidates=xy[:, cand].T.copy(),
         candidate_error=err[cand] / tau_phi[i],
         traced=run,
-        traced_spread=spread,
+        traced_effect=effect,
     )
 
 
@@ -188,10 +206,9 @@ def traced_warnings(peak: Peak, units: str) -> list[str]:
     return [
         f"the peak shear lies at ({x:.5g}, {y:.5g}) {units}, on a {kind} curve of radius about "
         f"{run.radius:.3g} {units} that the outline traces with points ({run.points_per_quarter:.3g} "
-        f"per quarter circle): each point is a weak corner of the polygon, and along this curve the "
-        f"shear varies by {100 * peak.traced_spread:.2g} % on this mesh, so the peak may be off the "
-        f"drawn curve's value by that much. Draw the curve as an arc (DXF ARC or polyline bulge) "
-        f"or use a shape file for an exact fillet."
+        f"per quarter circle): each point is a corner of the polygon, so the peak may be off the "
+        f"curve's value by about {100 * peak.traced_effect:.2g} %. Draw the curve as an arc (DXF "
+        f"ARC or polyline bulge) or use a shape file for an exact fillet."
     ]
 
 
@@ -207,7 +224,7 @@ def result_from_mesh(
     profile: Profile,
     mesh: Mesh,
     method: str = "auto",
-    order: int = 1,
+    order: int = DEFAULT_ORDER,
     corner_tol_deg: float = DEFAULT_CORNER_TOL_DEG,
     *,
     fields: TorsionFields | None = None,
@@ -226,18 +243,21 @@ def result_from_mesh(
         peak = boundary_peak(mesh, fields, corners, zone, tuple(traced_runs(profile)))
     j_lo, j_hi = fields.j_lo, fields.j_hi
     j = 0.5 * (j_lo + j_hi)
+    moments = outline_moments(profile)  # of the drawn outline, curves included
     errors = {"torsion_constant": (j_hi - j_lo) / (j_hi + j_lo)}
     if max_shear_error is None:
-        # one mesh only: the two fields' disagreement is the available estimate
-        max_shear_error = abs(peak.value - peak.value_warping) / peak.value
+        # one mesh only: the two fields' disagreement is the available estimate,
+        # plus the J bracket's half-width (tau / T divides by its midpoint)
+        max_shear_error = abs(peak.value - peak.value_warping) / peak.value \
+            + errors["torsion_constant"]
     errors["max_shear"] = float(max_shear_error)
     return TorsionResult(
         profile=profile,
         mesh=mesh,
         fields=fields,
-        area=fields.area,
-        centroid=(float(fields.origin[0]), float(fields.origin[1])),
-        polar_moment=fields.polar_moment,
+        area=moments.area,
+        centroid=moments.centroid,
+        polar_moment=moments.polar,
         torsion_constant_bounds=(j_lo, j_hi),
         max_shear_per_torque=peak.value / j,
         peak_location=peak.location,
@@ -259,7 +279,7 @@ def analyse(
     method: str = "auto",
     *,
     tol: float | None = None,
-    order: int = 1,
+    order: int = DEFAULT_ORDER,
     **adapt_options,
 ) -> TorsionResult:
     """Mesh a profile and compute its torsion properties.
@@ -279,7 +299,7 @@ def analyse(
         below it (see :func:`soapfilm.adapt.refine_until`, which takes the
         further keyword options).
     order : {1, 2}
-        Linear or quadratic triangles.
+        Linear or quadratic triangles (default :data:`DEFAULT_ORDER`, quadratic).
 
     Examples
     --------

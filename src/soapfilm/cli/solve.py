@@ -36,18 +36,21 @@ def add_args(p: argparse.ArgumentParser) -> None:
 # --- accuracy options (adaptive refinement, element order) ---------------------
 def add_accuracy_args(p: argparse.ArgumentParser) -> None:
     from ..adapt import DEFAULT_MAX_ELEMENTS, DEFAULT_TOL
+    from ..solve import DEFAULT_ORDER
 
     g = p.add_argument_group("accuracy")
     g.add_argument("--tol", type=float, metavar="REL",
-                   help=f"refine adaptively until the guaranteed J bracket, (J_hi - J_lo)/J, and "
-                        f"the estimated peak-shear error meet this (default {DEFAULT_TOL:g}; "
-                        f"with --mesh-size and no --tol: one solve on that mesh)")
+                   help=f"relative accuracy: refine adaptively until the guaranteed J bracket, "
+                        f"(J_hi - J_lo)/J, and the estimated error of the peak shear per unit "
+                        f"torque are both at most REL (default {DEFAULT_TOL:g}; with --mesh-size "
+                        f"and no --tol: one solve on that mesh)")
     g.add_argument("--peak-tol", type=float, metavar="REL",
-                   help="tolerance for the peak shear's estimated error (default max(tol, 2e-3))")
+                   help="a different accuracy for the peak shear alone (default: --tol)")
     g.add_argument("--max-elements", type=int, default=DEFAULT_MAX_ELEMENTS, metavar="N",
                    help=f"stop refining at N elements (default {DEFAULT_MAX_ELEMENTS})")
-    g.add_argument("--order", type=int, choices=(1, 2), default=1,
-                   help="element order: 1 linear, 2 quadratic triangles (default 1)")
+    g.add_argument("--order", type=int, choices=(1, 2), default=DEFAULT_ORDER,
+                   help="element order: 1 linear, 2 quadratic triangles, curved on curved "
+                        f"edges (default {DEFAULT_ORDER})")
 
 
 def accuracy_options(args, mesh_size=None) -> dict:

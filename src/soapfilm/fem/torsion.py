@@ -41,9 +41,9 @@ __all__ = ["TorsionFields", "solve_torsion", "recovered_gradient", "element_indi
 
 #: What the reported J bounds hold for.
 BOUNDS_SCOPES = {
-    "polygon": "the outline as given, a polygon (straight edges)",
-    "curves": "the drawn outline with its exact curves",
-    "mesh": "the mesh polygon only (the curves could not be bracketed on this mesh)",
+    "polygon": "the polygon as given",
+    "curves": "the drawn curves",
+    "mesh": "the mesh only, not the curves",
 }
 
 
@@ -139,6 +139,13 @@ def solve_torsion(mesh: Mesh, method: str = "auto") -> TorsionFields:
     )
 
 
+def mesh_hole_nodes(mesh: Mesh) -> np.ndarray:
+    """Mask of the nodes on hole loops."""
+    mask = np.zeros(mesh.nnodes, dtype=bool)
+    mask[mesh.segments[:, mesh.segment_markers >= 2].ravel()] = True
+    return mask
+
+
 def drawn_outline_bounds(mesh: Mesh, origin, phi, hole_values, omega, j_lo, j_hi):
     """J bounds for the drawn outline from the mesh's P1 fields (see :mod:`.outline`).
 
@@ -167,7 +174,13 @@ def drawn_outline_bounds(mesh: Mesh, origin, phi, hole_values, omega, j_lo, j_hi
     hi_out, per_out = p1_upper(poly.p_out - c, t, omega)
     _, per_lo = p1_lower(mesh.p - c, t, phi, hole_values, mesh.hole_areas)
     _, per_hi = p1_upper(mesh.p - c, t, omega)
-    slack = np.abs(per_lo - per_in) + np.abs(per_out - per_hi)
+    # the hole term 4 C_k A_k changes by what the elements next to hole k lose in
+    # area; give each element its share so that the shares sum to the bound's change
+    # and large opposite parts do not stand as slack (phi = C_k on hole nodes, 0 outside)
+    area_in = p1.geometry(poly.p_in - c, t)[0]
+    hole_phi = np.where(mesh_hole_nodes(mesh), phi, 0.0)[t].max(axis=0)
+    d_lo = per_lo - per_in + 4.0 * hole_phi * (area_in - p1.geometry(mesh.p - c, t)[0])
+    slack = np.abs(d_lo) + np.abs(per_out - per_hi)
     # each bound is the mesh's own plus the functional's change on the moved nodes,
     # so rounding in the sums over all elements does not enter the difference
     return (j_lo - (np.sum(per_lo - per_in) + 4.0 * np.dot(hole_values, mesh.hole_areas
@@ -291,3 +304,106 @@ def recovered_gradient(p, t, area, elem_values, nodes) -> np.ndarray:
         rhs = np.stack([psum(g), psum(g * dx), psum(g * dy)], -1) / d
         out[c] = np.linalg.solve(mat, rhs[..., None])[:, 0, 0]
     return out
+
+
+#: A mesh boundary node where the boundary turns by more than this is a corner of
+#: the outline: curves are meshed with turns of at most 10 degrees, and points
+#: tracing a curve turn by at most 30 (soapfilm.corners.TRACE_MAX_TURN_DEG).
+CORNER_TURN_DEG = 30.0
+
+
+def boundary_corner_nodes(mesh: Mesh, p: np.ndarray | None = None) -> tuple[np.ndarray, np.ndarray]:
+    """Sorted boundary nodes and a mask of those at a corner of the outline.
+
+    At a corner of interior angle ``alpha`` the shear behaves like
+    ``r^(pi/alpha - 1)``: zero at a convex corner, unbounded at a re-entrant
+    one; neither is a finite peak, and a node there has no single tangent to
+    take the shear along, so the peak is read at the other nodes.
+    """
+    p = mesh.p if p is None else p
+    nodes = mesh.boundary_nodes
+    nb = len(nodes)
+    e = mesh.oriented_boundary()[0]
+    pos = np.searchsorted(nodes, e)
+    d = p[:, e[1]] - p[:, e[0]]
+    s = d / np.hypot(*d)
+    nxt_e = np.empty(nb, dtype=np.int64)
+    prv_e = np.empty(nb, dtype=np.int64)
+    nxt_e[pos[0]] = np.arange(e.shape[1])
+    prv_e[pos[1]] = np.arange(e.shape[1])
+    cos_turn = np.einsum("ij,ij->j", s[:, prv_e], s[:, nxt_e])
+    return nodes, cos_turn < np.cos(np.radians(CORNER_TURN_DEG))
+
+
+def boundary_flux_shear(mesh: Mesh, fields: TorsionFields) -> tuple[np.ndarray, np.ndarray,
+                                                                    np.ndarray]:
+    """Boundary shear at the boundary nodes from both fields, independently.
+
+    On the boundary the shear is tangent to it; its magnitude is the normal
+    derivative of ``phi`` (``phi`` is constant along each loop) and the
+    tangential component of ``tau_w``.
+
+    * Stress function, by consistent boundary flux: the residual of the
+      discrete equations at a boundary node, ``r_i = (K phi)_i - b_i``, equals
+      ``int_boundary (d phi / dn) N_i ds`` for the exact field (Green's
+      formula), and its weighted sums converge like the energy, at order 2 in
+      h [1]_, [2]_.  Divided by the node's share of the boundary length it is
+      the normal derivative, with a node-to-node scatter of order h on an
+      unstructured mesh.
+    * Warping function: ``tau_w . s = d omega / ds + (-y, x) . s`` from the
+      difference quotients of ``omega`` along the two boundary edges at the
+      node, weighted for unequal edges (second order for smooth data).
+
+    Both are then smoothed once along the boundary with weights (1/4, 1/2,
+    1/4), which halves the scatter and moves a smooth profile by
+    ``h^2/4 tau''``: second order.  Corner nodes (:func:`boundary_corner_nodes`)
+    are not smoothed, nor used by their neighbours.
+
+    Returns ``(nodes, tau_phi, tau_w)`` for the sorted boundary nodes.
+
+    References
+    ----------
+    .. [1] G. F. Carey, S. S. Chow and M. K. Seager, "Approximate boundary-flux
+       calculations", Comput. Methods Appl. Mech. Engrg. 50 (1985) 107-120.
+    .. [2] I. Babuska and A. Miller, "The post-processing approach in the
+       finite element method - part 1", Int. J. Numer. Meth. Engng 20 (1984)
+       1085-1109.
+    """
+    p, t = fields.p, mesh.t[:3]
+    n = p.shape[1]
+    nodes = mesh.boundary_nodes
+    nb = len(nodes)
+    on_b = np.zeros(n, dtype=bool)
+    on_b[nodes] = True
+    el = np.flatnonzero(on_b[t].any(axis=0))  # elements touching the boundary
+    te = t[:, el]
+    area, grad = fields.elem_area[el], fields.elem_grad[:, :, el]
+    ke = np.einsum("cie,cje->ije", grad, grad) * area
+    kphi = np.einsum("ije,je->ie", ke, fields.phi[te])
+    r = np.bincount(te.ravel(), weights=(kphi - 2.0 * area / 3.0).ravel(), minlength=n)[nodes]
+    e = mesh.oriented_boundary()[0]  # material on the left
+    pos = np.searchsorted(nodes, e)
+    d = p[:, e[1]] - p[:, e[0]]
+    ell = np.hypot(*d)
+    s = d / ell
+    nxt_e = np.empty(nb, dtype=np.int64)
+    prv_e = np.empty(nb, dtype=np.int64)
+    nxt_e[pos[0]] = np.arange(e.shape[1])
+    prv_e[pos[1]] = np.arange(e.shape[1])
+    la, lb = ell[prv_e], ell[nxt_e]
+    tau_phi = np.abs(r) / (0.5 * (la + lb))
+    g = (fields.omega[e[1]] - fields.omega[e[0]]) / ell  # d omega / ds on each edge
+    gn = (lb * g[prv_e] + la * g[nxt_e]) / (la + lb)
+    sn = (lb * s[:, prv_e] + la * s[:, nxt_e]) / (la + lb)
+    sn /= np.hypot(*sn)
+    x, y = p[0, nodes], p[1, nodes]
+    tau_w = np.abs(gn - y * sn[0] + x * sn[1])
+    # smoothing along the boundary, not at or across corners
+    smooth = ~boundary_corner_nodes(mesh, p)[1]
+    nxt, prv = pos[1][nxt_e], pos[0][prv_e]
+    ok = smooth & smooth[nxt] & smooth[prv]
+
+    def smoothed(v):
+        return np.where(ok, 0.5 * v + 0.25 * (v[nxt] + v[prv]), v)
+
+    return nodes, smoothed(tau_phi), smoothed(tau_w)

@@ -8,7 +8,17 @@ puts new boundary nodes on the curves) -> solve (:mod:`soapfilm.fem`).
 """
 
 from .curves import Circle, Curve, Ellipse, Involute, Moved, unwrapped
-from .edges import curve_runs, find_arcs, resampled_loop, tag_edges, turn_angles
+from .edges import (
+    curve_runs,
+    find_arcs,
+    junction_corners,
+    resampled_loop,
+    tag_edges,
+    turn_angles,
+)
+from .moments import OutlineMoments, outline_moments
+from .spline import SplineCurve
 
 __all__ = ["Circle", "Curve", "Ellipse", "Involute", "Moved", "unwrapped", "curve_runs",
-           "find_arcs", "resampled_loop", "tag_edges", "turn_angles"]
+           "find_arcs", "junction_corners", "resampled_loop", "tag_edges", "turn_angles",
+           "OutlineMoments", "outline_moments", "SplineCurve"]
