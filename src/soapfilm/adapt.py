@@ -14,10 +14,16 @@ bracket width.  The loop
 
 The peak-shear error (of tau_max / T) is estimated as the largest of the last
 change, half the change before it (a geometric sequence halving its error
-each step has its remaining error about equal to its last change) and the
-disagreement between the stress-function and warping-function values at the
-peak, plus the half-width of the J bracket (tau_max / T divides by the
-bracket's midpoint).
+each step has its remaining error about equal to its last change) and a local
+estimate, plus the half-width of the J bracket (tau_max / T divides by the
+bracket's midpoint).  The local estimate is twice the largest disagreement
+between the stress-function and warping-function values at the places that
+could hold the peak (:func:`soapfilm.solve.peak_cross_error`); for linear
+elements, once the J bracket and the history meet the tolerance, it is the
+difference from quadratic elements on the same mesh plus their own estimate
+(:func:`soapfilm.solve.order_check_error`): linear elements' boundary
+gradients are noisy at order h on unstructured meshes and their two fields'
+disagreement over-states the error of the maximum many times.
 
 References
 ----------
@@ -38,7 +44,14 @@ from .errors import InputError
 from .mesh import Mesh, default_mesh_size, mesh_profile
 from .profile import Profile
 from .result import TorsionResult
-from .solve import boundary_peak, corner_zone_radius, result_from_mesh, solve_fields
+from .solve import (
+    boundary_peak,
+    corner_zone_radius,
+    order_check_error,
+    peak_cross_error,
+    result_from_mesh,
+    solve_fields,
+)
 
 __all__ = ["refine_until", "DEFAULT_TOL", "DEFAULT_MAX_ELEMENTS", "bulk_marked"]
 
@@ -46,6 +59,12 @@ log = logging.getLogger(__name__)
 
 DEFAULT_TOL = 1e-3
 DEFAULT_MAX_ELEMENTS = 1_000_000
+#: At most this many places round the peak are refined per step (the worst first):
+#: a peak on a long flat stretch (mid-wall of a box) has hundreds of candidate places,
+#: and quartering round all of them multiplied the mesh by 3 per step without
+#: settling a disagreement that came from elsewhere (pollution, refined by marking).
+_MAX_SPOTS = 32
+
 #: Start of the adaptive loop: this many times the default element size.
 _COARSE_START = 2.5
 
@@ -60,24 +79,14 @@ def bulk_marked(eta2: np.ndarray, theta: float) -> np.ndarray:
     return marked
 
 
-#: Safety factor on the two-field disagreement in the peak-shear estimate.  The
-#: stress-function and warping-function boundary values at one node share the
-#: node's boundary geometry, so their errors are partly alike and their
-#: difference can fall short of either error; twice the difference covered the
-#: actual error on every known-answer section (DEVELOPERS.md, accuracy table).
-CROSS_FACTOR = 2.0
-
-
-def _peak_error(values: list[float], peak, half_bracket: float) -> float:
-    """Estimated relative error of the peak shear per unit torque (module docstring)."""
-    v = values[-1]
-    cross = max(abs(v - peak.value_warping) / v,
-                float(np.max(peak.candidate_error)) if len(peak.candidate_error) else 0.0)
+def _history_error(values: list[float]) -> float:
+    """The larger of the last change and half the change before it (relative)."""
     if len(values) == 1:
         return float("inf")  # one solve: no history yet
+    v = values[-1]
     d1 = abs(values[-1] - values[-2]) / v
     d0 = abs(values[-2] - values[-3]) / v if len(values) >= 3 else d1 * 2.0
-    return max(d1, 0.5 * d0, CROSS_FACTOR * cross) + half_bracket
+    return max(d1, 0.5 * d0)
 
 
 def refine_until(
@@ -143,8 +152,14 @@ def refine_until(
         peak = boundary_peak(mesh, fields, corners, zone, traced)
         j = 0.5 * (fields.j_lo + fields.j_hi)
         gap = (fields.j_hi - fields.j_lo) / j
-        peaks.append(peak.value)
-        perr = _peak_error(peaks, peak, 0.5 * gap)
+        peaks.append(peak.value / j)
+        hist = _history_error(peaks)
+        if order == 1 and gap <= tol and hist <= peak_tol:
+            # linear elements: check against quadratic ones on the same mesh
+            local = order_check_error(mesh, fields, peak, corners, zone, traced, method)
+        else:
+            local = peak_cross_error(peak)
+        perr = max(hist, local) + 0.5 * gap
         entry = {
             "step": step,
             "elements": int(mesh.nelements),
@@ -196,7 +211,7 @@ def _next_mesh(mesh, fields, peak, refine_j, refine_peak, theta, h_floor, peak_t
     if refine_j or refine_peak:
         # the peak's error is partly pollution from the whole field: refine where
         # the two fields disagree even when the J bracket is already met
-        marked = bulk_marked(fields.indicators, theta if refine_j else 0.5 * theta)
+        marked = bulk_marked(fields.indicators, theta)
         limit[marked] = area[marked] / 2.0
     if refine_peak:
         from scipy.spatial import cKDTree
@@ -206,8 +221,9 @@ def _next_mesh(mesh, fields, peak, refine_j, refine_peak, theta, h_floor, peak_t
         tree = cKDTree(cent)
         # the places that could hold the peak and whose two fields still disagree
         # by more than half the tolerance; the peak itself always
-        spots = peak.candidates[peak.candidate_error > 0.5 * peak_tol]
-        spots = np.vstack([np.asarray(peak.location)[None, :], spots])  # input = mesh coordinates
+        big = np.flatnonzero(peak.candidate_error > 0.5 * peak_tol)
+        big = big[np.argsort(peak.candidate_error[big])[::-1][:_MAX_SPOTS]]
+        spots = np.vstack([np.asarray(peak.location)[None, :], peak.candidates[big]])
         _, nearest = tree.query(spots, k=min(6, len(cent)))  # the elements round each spot
         h = np.sqrt(np.mean(area[nearest], axis=1) * 4 / np.sqrt(3))
         for idx in tree.query_ball_point(spots, 4.0 * h):

@@ -196,6 +196,40 @@ def corner_warnings(corners: tuple[Corner, ...], units: str, zone: float) -> lis
     ]
 
 
+#: Safety factor on the two-field disagreement in the peak-shear estimate.  The
+#: stress-function and warping-function boundary values at one node share the
+#: node's boundary geometry, so their errors are partly alike and their
+#: difference can fall short of either error; twice the difference covered the
+#: actual error on every known-answer section (DEVELOPERS.md, "Peak error estimate").
+CROSS_FACTOR = 2.0
+
+
+def peak_cross_error(peak: Peak) -> float:
+    """Twice the largest relative two-field disagreement where the peak could be."""
+    cross = abs(peak.value - peak.value_warping) / peak.value
+    if len(peak.candidate_error):
+        cross = max(cross, float(np.max(peak.candidate_error)))
+    return CROSS_FACTOR * cross
+
+
+def order_check_error(mesh: Mesh, fields: TorsionFields, peak: Peak, corners, zone, traced,
+                      method: str = "auto") -> float:
+    """Relative error of a linear-element peak (tau/T) by quadratic elements on the same mesh.
+
+    ``|r1 - r2| / r1 + e2``: ``r`` the peak per unit torque from linear and from
+    quadratic elements, ``e2`` the quadratic solution's own estimate (two-field
+    disagreement and J half-bracket).  Quadratic elements' boundary gradients
+    converge an order faster, so the difference is the linear value's error
+    to within ``e2``.
+    """
+    f2 = solve_fields(mesh, order=2, method=method)
+    pk2 = boundary_peak(mesh, f2, corners, zone, traced)
+    r1 = peak.value / (0.5 * (fields.j_lo + fields.j_hi))
+    r2 = pk2.value / (0.5 * (f2.j_lo + f2.j_hi))
+    e2 = peak_cross_error(pk2) + (f2.j_hi - f2.j_lo) / (f2.j_hi + f2.j_lo)
+    return abs(r1 - r2) / r1 + e2
+
+
 def traced_warnings(peak: Peak, units: str) -> list[str]:
     """Say so when the peak sits on a curve that the outline gives as points."""
     run = peak.traced
@@ -246,10 +280,14 @@ def result_from_mesh(
     moments = outline_moments(profile)  # of the drawn outline, curves included
     errors = {"torsion_constant": (j_hi - j_lo) / (j_hi + j_lo)}
     if max_shear_error is None:
-        # one mesh only: the two fields' disagreement is the available estimate,
-        # plus the J bracket's half-width (tau / T divides by its midpoint)
-        max_shear_error = abs(peak.value - peak.value_warping) / peak.value \
-            + errors["torsion_constant"]
+        # one mesh only: the local estimate (see soapfilm.adapt), plus the J bracket's
+        # half-width (tau / T divides by its midpoint)
+        if getattr(fields, "order", 1) == 1:
+            local = order_check_error(mesh, fields, peak, corners, zone,
+                                      tuple(traced_runs(profile)), method)
+        else:
+            local = peak_cross_error(peak)
+        max_shear_error = local + errors["torsion_constant"]
     errors["max_shear"] = float(max_shear_error)
     return TorsionResult(
         profile=profile,

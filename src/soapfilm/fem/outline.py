@@ -39,7 +39,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..geometry.curves import Curve
+from ..geometry.curves import edge_params
 from ..mesh import Mesh
 from . import p1
 
@@ -66,15 +66,6 @@ class OutlinePolygons:
     edge_excess: np.ndarray  # (S,)
 
 
-def _foot_params(cv: Curve, a: np.ndarray, b: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    ta = cv.project(a.T)
-    tb = cv.project(b.T)
-    if cv.period is not None:
-        per = cv.period
-        tb = ta + (tb - ta + 0.5 * per) % per - 0.5 * per
-    return ta, tb
-
-
 def outline_polygons(mesh: Mesh, p: np.ndarray | None = None) -> OutlinePolygons:
     """Inner and outer polygons of the drawn outline on the mesh's node numbering.
 
@@ -97,7 +88,7 @@ def outline_polygons(mesh: Mesh, p: np.ndarray | None = None) -> OutlinePolygons
     for c in np.unique(curve[curve >= 0]):
         sel = np.flatnonzero(curve == c)
         cv = mesh.curves[c]
-        ta, tb = _foot_params(cv, a[:, sel], b[:, sel])
+        ta, tb = edge_params(cv, a[:, sel].T, b[:, sel].T)
         sgn = np.where(tb >= ta, 1.0, -1.0)
         da = cv.derivative(ta).T * sgn
         db = cv.derivative(tb).T * sgn

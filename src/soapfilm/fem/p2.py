@@ -66,7 +66,7 @@ import numpy as np
 import scipy.sparse as sp
 
 from ..errors import SolveError
-from ..geometry.curves import Circle, Curve, Ellipse, Involute, Moved
+from ..geometry.curves import Circle, Curve, Ellipse, Involute, Moved, edge_params
 from ..mesh import Mesh
 from . import p1
 from .linsolve import solve_spd
@@ -100,8 +100,10 @@ log = logging.getLogger(__name__)
 #: :func:`_solve_amg`).  Whole solve (both problems) on the keyed shaft,
 #: 2-core sandbox under load: 85 913 unknowns direct 1.8 s / AMG 4.0 s;
 #: 175 893 unknowns direct 7.0 s / AMG 6.8 s; 572 429 unknowns AMG 25 s
-#: (34-38 CG iterations at every size), SuperLU over 200 s.
-P2_DIRECT_LIMIT = 150_000
+#: (34-38 CG iterations at every size), SuperLU over 200 s.  On the 18-tooth
+#: involute spline (more fill-in) at 74 000 unknowns: direct 7.2 s / AMG 4.1 s,
+#: at 21 000: direct 1.3 s / AMG 1.6 s; hence the limit between the two.
+P2_DIRECT_LIMIT = 60_000
 
 #: Barycentric coordinates (npts, 3) of the 7-point rule: centroid, edge
 #: midpoints, vertices.  Exact for polynomials of degree <= 3.
@@ -234,12 +236,7 @@ def _edge_keys(a: np.ndarray, b: np.ndarray, n: int) -> np.ndarray:
 
 def _param_span(cv: Curve, a: np.ndarray, b: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """Curve parameters of points ``a``, ``b`` (``(2, k)``), the shorter way round a closed curve."""
-    ta = cv.project(a.T)
-    tb = cv.project(b.T)
-    if cv.period is not None:
-        per = cv.period
-        tb = ta + (tb - ta + 0.5 * per) % per - 0.5 * per
-    return ta, tb
+    return edge_params(cv, a.T, b.T)
 
 
 def _curve_midpoints(mesh: Mesh) -> tuple[np.ndarray, np.ndarray, np.ndarray]:

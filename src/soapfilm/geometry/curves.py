@@ -31,6 +31,7 @@ __all__ = [
     "Ellipse",
     "Involute",
     "Moved",
+    "edge_params",
     "unwrapped",
 ]
 
@@ -85,6 +86,20 @@ class Curve:
             step = np.where(df > 0, f / np.where(df > 0, df, 1.0), 0.0)
             t = t - step
         return t
+
+
+def edge_params(curve: Curve, a, b) -> tuple[np.ndarray, np.ndarray]:
+    """Parameters of the ends of edges ``a -> b`` (points ``(k, 2)``) on ``curve``.
+
+    On a closed curve the end parameter is taken the shorter way round, so an
+    edge across the seam spans a small interval, not most of the period.
+    """
+    ta = curve.project(a)
+    tb = curve.project(b)
+    if curve.period is not None:
+        per = curve.period
+        tb = ta + (tb - ta + 0.5 * per) % per - 0.5 * per
+    return ta, tb
 
 
 def unwrapped(curve: Curve, t: np.ndarray) -> np.ndarray:

@@ -21,7 +21,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .curves import Curve
+from .curves import Curve, edge_params
 
 __all__ = ["OutlineMoments", "outline_moments"]
 
@@ -54,10 +54,7 @@ def _edge_points(loop: np.ndarray, tags: np.ndarray, curves: tuple[Curve, ...]):
     for c in np.unique(tags[tags >= 0]):
         sel = np.flatnonzero(tags == c)
         cv = curves[c]
-        ta, tb = cv.project(a[sel]), cv.project(b[sel])
-        if cv.period is not None:
-            per = cv.period
-            tb = ta + (tb - ta + 0.5 * per) % per - 0.5 * per
+        ta, tb = edge_params(cv, a[sel], b[sel])
         tq = ta[:, None] + u[None, :] * (tb - ta)[:, None]
         pts[sel] = cv.point(tq.ravel()).reshape(len(sel), len(u), 2)
         der[sel] = cv.derivative(tq.ravel()).reshape(len(sel), len(u), 2) * (tb - ta)[:, None, None]
