@@ -79,6 +79,8 @@ class TracedRun:
     radius: float
     chord: np.ndarray
     index: np.ndarray  # vertex indices in the loop
+    step_deg: float = 0.0  # turn per point inside the run
+
 
     @property
     def concave(self) -> bool:
@@ -86,7 +88,8 @@ class TracedRun:
 
     @property
     def points_per_quarter(self) -> float:
-        return 90.0 / max(float(np.mean(np.abs(self.turn_deg))), 1e-12)
+        step = self.step_deg or float(np.mean(np.abs(self.turn_deg)))
+        return 90.0 / max(step, 1e-12)
 
 
 def traced_runs(profile: Profile, max_turn_deg: float = TRACE_MAX_TURN_DEG) -> list[TracedRun]:
@@ -110,7 +113,18 @@ def traced_runs(profile: Profile, max_turn_deg: float = TRACE_MAX_TURN_DEG) -> l
             & (np.maximum(l_in, l_out) <= 3.0 * np.minimum(l_in, l_out))
         nxt = np.roll(np.arange(n), -1)
         pair = small & small[nxt] & (np.sign(turn) == np.sign(turn[nxt]))  # i and i+1 together
-        member = pair | np.roll(pair, 1)
+        # the end points of a traced curve meet its straight neighbours, which may be far
+        # longer than its chords: there only the turn counts (half a chord's turn at a
+        # tangent end), so an end vertex joins the run it continues
+        ends = straight & (np.abs(turn) > 0.5) & (np.abs(turn) <= max_turn_deg)
+        grew = True
+        while grew:
+            member = pair | np.roll(pair, 1)
+            add = ends & ~member & (((np.roll(member, -1)) & (np.sign(turn) == np.sign(turn[nxt])))
+                                    | (np.roll(member, 1) & (np.sign(turn) == np.roll(np.sign(turn), 1))))
+            grew = bool(add.any())
+            # link an added end to its member neighbour
+            pair = pair | (add & np.roll(member, -1)) | np.roll(add & np.roll(member, 1), -1)
         if not member.any():
             continue
         # split the members into consecutive runs (cyclically)
@@ -124,10 +138,14 @@ def traced_runs(profile: Profile, max_turn_deg: float = TRACE_MAX_TURN_DEG) -> l
                 idx.append(int(nxt[idx[-1]]))
             ii = np.array(idx)
             chord = np.minimum(l_in[ii], l_out[ii])
-            # radius of the circle through a vertex and its neighbours: l / (2 sin(turn / 2))
-            rad = 0.5 * (l_in[ii] + l_out[ii]) / (2.0 * np.sin(np.radians(0.5 * np.abs(turn[ii]))))
+            # radius and turn from the inner vertices (an end vertex has one long straight
+            # neighbour and half a chord's turn): radius of the circle through a vertex
+            # and its neighbours, l / (2 sin(turn / 2))
+            inner = ii[1:-1] if len(ii) > 2 else ii
+            rad = 0.5 * (l_in[inner] + l_out[inner]) \
+                / (2.0 * np.sin(np.radians(0.5 * np.abs(turn[inner]))))
             runs.append(TracedRun(k, loop[ii].copy(), turn[ii].copy(), float(np.mean(rad)), chord,
-                                  ii))
+                                  ii, float(np.mean(np.abs(turn[inner])))))
     return runs
 
 

@@ -164,12 +164,14 @@ def boundary_peak(
     effect = 0.0
     if run_of[i] >= 0:
         run = traced[run_of[i]]
-        along = run_of == run_of[i]
+        # the run's points next to the peak: within two of its chords
+        reach = 2.0 * float(np.max(run.chord))
+        along = (run_of == run_of[i]) & (np.hypot(xy[0] - xy[0, i], xy[1] - xy[1, i]) <= reach)
         # concave: how far the weak corners' own values stand above the peak read
         # between them; convex: an inscribed polygon of N sides per turn raises the
         # boundary stress by about 1.4 / N (shared/design.md, measured 0.59 % at N = 256)
         effect = float(np.max(tau_phi[along]) / tau_phi[i] - 1.0) if run.concave else \
-            1.4 * float(np.mean(np.abs(run.turn_deg))) / 360.0
+            1.4 * (run.step_deg or float(np.mean(np.abs(run.turn_deg)))) / 360.0
     return Peak(
         value=float(tau_phi[i]),
         node=node,

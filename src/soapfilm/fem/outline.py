@@ -95,12 +95,12 @@ def outline_polygons(mesh: Mesh, p: np.ndarray | None = None) -> OutlinePolygons
         cr = da[0] * db[1] - da[1] * db[0]
         turn = np.abs(np.arctan2(cr, np.einsum("ij,ij->j", da, db)))
         ab = chord[:, sel]
-        with np.errstate(divide="ignore", invalid="ignore"):
+        with np.errstate(divide="ignore", invalid="ignore"):  # parallel tangents: see `flat`
             sa = (ab[0] * db[1] - ab[1] * db[0]) / cr
-        tpt = a[:, sel] + sa * da
-        h = np.einsum("ij,ij->j", left[:, sel], tpt - a[:, sel])
-        along = np.einsum("ij,ij->j", ab, tpt - a[:, sel]) / np.where(length[sel] > 0,
-                                                                         length[sel] ** 2, 1.0)
+            tpt = a[:, sel] + sa * da
+            h = np.einsum("ij,ij->j", left[:, sel], tpt - a[:, sel])
+            along = np.einsum("ij,ij->j", ab, tpt - a[:, sel]) / np.where(length[sel] > 0,
+                                                                             length[sel] ** 2, 1.0)
         # a piece that hardly turns: the tangent lines are near parallel and T is
         # ill-conditioned; its curve stays within twice the midpoint's offset
         # (exact for a circle, where T stands at twice the sagitta)

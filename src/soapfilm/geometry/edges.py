@@ -317,11 +317,16 @@ def resampled_loop(xy: np.ndarray, edge_curve: np.ndarray, curves: Sequence[Curv
         tf = np.concatenate([np.linspace(tv[k], tv[k + 1], sub, endpoint=False)
                              for k in range(count)] + [tv[-1:]])
         pf = cv.point(tf)
-        ds = np.hypot(*np.diff(pf, axis=0).T)
-        dv = cv.derivative(tf)
-        ang = np.unwrap(np.arctan2(dv[:, 1], dv[:, 0]))
+        d = np.diff(pf, axis=0)
+        ds = np.hypot(*d.T)
+        # the turning from the fine chords' directions, not from the derivative, which
+        # vanishes where an involute leaves its base circle (its direction is then 0/0)
+        ang = np.unwrap(np.arctan2(d[:, 1], d[:, 0]))
+        turn = np.abs(np.diff(ang))
+        turn = np.concatenate([turn[:1], 0.5 * (turn[1:] + turn[:-1]), turn[-1:]]) \
+            if len(turn) else np.zeros(len(ds))
         hf = np.interp(np.arange(len(tf)) / sub, np.arange(count + 1), hv[idx])
-        step = np.maximum(ds / (0.5 * (hf[1:] + hf[:-1])), np.abs(np.diff(ang)) / max_turn)
+        step = np.maximum(ds / (0.5 * (hf[1:] + hf[:-1])), turn / max_turn)
         measure = np.concatenate([[0.0], np.cumsum(step)])
         m = max(1, math.ceil(measure[-1] - 1e-9))
         if closed:
