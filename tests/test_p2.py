@@ -69,31 +69,10 @@ def rectangle_profile(b: float, t: float) -> Profile:
     return Profile.from_loops([[(0.0, 0.0), (b, 0.0), (b, t), (0.0, t)]])
 
 
-def skfem_reference(mesh, r_split: float) -> tuple[float, float]:
-    """J_lo and J_hi of the same P2 problems solved with scikit-fem on the same mesh.
-
-    A general FE library as reference (scikit-fem, ElementTriP2).  The hole is
-    handled by superposition, phi = u0 + C u1 with u0 (-lap u0 = 2, u0 = 0 on
-    all loops) and u1 (lap u1 = 0, u1 = 0 outside, 1 on the hole); C from the
-    circulation condition on the hole (Timoshenko & Goodier, 3rd ed., sec. 115),
-    which in weak form reads a(phi, u1) - (2, u1) = 2 A_hole.  Boundary facets
-    are split into outer/hole by their distance from the origin.
-    """
-    from skfem import (
-        Basis,
-        BilinearForm,
-        ElementTriP2,
-        Functional,
-        LinearForm,
-        MeshTri,
-        asm,
-        condense,
-        solve,
-    )
+def _skfem_forms():
+    """scikit-fem forms of both torsion problems: Laplace, load 2, warping load, x^2 + y^2."""
+    from skfem import BilinearForm, Functional, LinearForm
     from skfem.helpers import dot, grad
-
-    m = MeshTri(np.array(mesh.p), np.array(mesh.t))
-    basis = Basis(m, ElementTriP2(), intorder=4)
 
     @BilinearForm
     def lap(u, v, w):
@@ -112,6 +91,33 @@ def skfem_reference(mesh, r_split: float) -> tuple[float, float]:
     def r2(w):
         x, y = w.x
         return x * x + y * y
+
+    return lap, two, rot, r2
+
+
+def skfem_reference(mesh, r_split: float) -> tuple[float, float]:
+    """J_lo and J_hi of the same P2 problems solved with scikit-fem on the same mesh.
+
+    A general FE library as reference (scikit-fem, ElementTriP2).  The hole is
+    handled by superposition, phi = u0 + C u1 with u0 (-lap u0 = 2, u0 = 0 on
+    all loops) and u1 (lap u1 = 0, u1 = 0 outside, 1 on the hole); C from the
+    circulation condition on the hole (Timoshenko & Goodier, 3rd ed., sec. 115),
+    which in weak form reads a(phi, u1) - (2, u1) = 2 A_hole.  Boundary facets
+    are split into outer/hole by their distance from the origin.
+    """
+    from skfem import (
+        Basis,
+        ElementTriP2,
+        MeshTri,
+        asm,
+        condense,
+        solve,
+    )
+
+    m = MeshTri(np.array(mesh.p), np.array(mesh.t))
+    basis = Basis(m, ElementTriP2(), intorder=4)
+
+    lap, two, rot, r2 = _skfem_forms()
 
     k = asm(lap, basis)
     b = asm(two, basis)
@@ -564,17 +570,13 @@ def skfem_isoparametric(f) -> tuple[float, float]:
     """J_lo, J_hi of a simply connected section with scikit-fem's isoparametric P2."""
     from skfem import (
         Basis,
-        BilinearForm,
         ElementTriP2,
-        Functional,
-        LinearForm,
         MeshTri1,
         MeshTri2,
         asm,
         condense,
         solve,
     )
-    from skfem.helpers import dot, grad
 
     nd = f.nodes
     n = nd.nnodes - nd.edges.shape[1]
@@ -589,23 +591,7 @@ def skfem_isoparametric(f) -> tuple[float, float]:
     doflocs[:, m2.dofs.facet_dofs[0]] = f.p[:, n + j]
     basis = Basis(dataclasses.replace(m2, doflocs=doflocs), ElementTriP2(), intorder=10)
 
-    @BilinearForm
-    def lap(u, v, w):
-        return dot(grad(u), grad(v))
-
-    @LinearForm
-    def two(v, w):
-        return 2.0 * v
-
-    @LinearForm
-    def rot(v, w):
-        x, y = w.x
-        return y * v.grad[0] - x * v.grad[1]
-
-    @Functional
-    def r2(w):
-        x, y = w.x
-        return x * x + y * y
+    lap, two, rot, r2 = _skfem_forms()
 
     k, b = asm(lap, basis), asm(two, basis)
     u = solve(*condense(k, b, D=basis.get_dofs().all()))
