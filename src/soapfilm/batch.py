@@ -169,10 +169,11 @@ def _section(source, units: str | None) -> tuple[Profile, dict]:
 
 def _analyse_options(options: Mapping, settings: Mapping) -> dict:
     from .adapt import DEFAULT_TOL
+    from .solve import DEFAULT_ORDER
 
     mesh_size = options.get("mesh_size", settings.get("mesh_size"))
     kw = {"mesh_size": mesh_size, "method": options.get("method", settings.get("method", "auto")),
-          "order": options.get("order", 1)}
+          "order": options.get("order", DEFAULT_ORDER)}
     tol = options.get("tol")
     if tol == "auto":
         tol = None if mesh_size is not None else DEFAULT_TOL
