@@ -167,10 +167,12 @@ def boundary_peak(
         # the run's points next to the peak: within two of its chords
         reach = 2.0 * float(np.max(run.chord))
         along = (run_of == run_of[i]) & (np.hypot(xy[0] - xy[0, i], xy[1] - xy[1, i]) <= reach)
-        # concave: how far the weak corners' own values stand above the peak read
-        # between them; convex: an inscribed polygon of N sides per turn raises the
-        # boundary stress by about 1.4 / N (shared/design.md, measured 0.59 % at N = 256)
-        effect = float(np.max(tau_phi[along]) / tau_phi[i] - 1.0) if run.concave else \
+        # concave: how much the shear read between the points (outside their zones)
+        # varies along the chords next to the peak - the polygon's ripple, which the
+        # points' weak corners cause; convex: an inscribed polygon of N sides per turn
+        # raises the boundary stress by about 1.4 / N (shared/design.md, measured
+        # 0.59 % at N = 256)
+        effect = float(1.0 - np.min(tau_phi[along & away]) / tau_phi[i]) if run.concave else \
             1.4 * (run.step_deg or float(np.mean(np.abs(run.turn_deg)))) / 360.0
     return Peak(
         value=float(tau_phi[i]),
