@@ -117,14 +117,12 @@ def traced_runs(profile: Profile, max_turn_deg: float = TRACE_MAX_TURN_DEG) -> l
         # longer than its chords: there only the turn counts (half a chord's turn at a
         # tangent end), so an end vertex joins the run it continues
         ends = straight & (np.abs(turn) > 0.5) & (np.abs(turn) <= max_turn_deg)
-        grew = True
-        while grew:
-            member = pair | np.roll(pair, 1)
-            add = ends & ~member & (((np.roll(member, -1)) & (np.sign(turn) == np.sign(turn[nxt])))
-                                    | (np.roll(member, 1) & (np.sign(turn) == np.roll(np.sign(turn), 1))))
-            grew = bool(add.any())
-            # link an added end to its member neighbour
-            pair = pair | (add & np.roll(member, -1)) | np.roll(add & np.roll(member, 1), -1)
+        core = pair | np.roll(pair, 1)
+        sign = np.sign(turn)
+        after = ends & ~core & np.roll(core, 1) & (sign == np.roll(sign, 1))  # i - 1 in a run
+        before = ends & ~core & np.roll(core, -1) & (sign == sign[nxt])  # i + 1 in a run
+        pair = pair | before | np.roll(after, -1)  # link each end to its run (once, no chaining)
+        member = pair | np.roll(pair, 1)
         if not member.any():
             continue
         # split the members into consecutive runs (cyclically)

@@ -55,15 +55,13 @@ class OutlinePolygons:
     """Node positions of the inner and outer polygons (same numbering as the mesh).
 
     ``ok`` is False when they could not be formed on this mesh (an edge too
-    coarse for its curve); ``edge_excess`` is, per boundary segment, the
-    height of the tangent triangle (how far the curve may stand off its chord).
+    coarse for its curve).
     """
 
     p_in: np.ndarray
     p_out: np.ndarray
     ok: bool
     moved: np.ndarray  # nodes moved in either polygon
-    edge_excess: np.ndarray  # (S,)
 
 
 def outline_polygons(mesh: Mesh, p: np.ndarray | None = None) -> OutlinePolygons:
@@ -149,8 +147,7 @@ def outline_polygons(mesh: Mesh, p: np.ndarray | None = None) -> OutlinePolygons
         ok = _checked(mesh, p, p_in, e, height, apex, +1) and _checked(mesh, p, p_out, e, height,
                                                                        apex, -1)
     moved = bnodes[move_in | move_out]
-    return OutlinePolygons(p_in=p_in, p_out=p_out, ok=ok, moved=moved,
-                           edge_excess=np.abs(height))
+    return OutlinePolygons(p_in=p_in, p_out=p_out, ok=ok, moved=moved)
 
 
 def _checked(mesh, p, q, e, height, apex, side) -> bool:

@@ -14,11 +14,10 @@ from .edges import (
     junction_corners,
     resampled_loop,
     tag_edges,
-    turn_angles,
 )
 from .moments import OutlineMoments, outline_moments
 from .spline import SplineCurve
 
 __all__ = ["Circle", "Curve", "Ellipse", "Involute", "Moved", "unwrapped", "curve_runs",
-           "find_arcs", "junction_corners", "resampled_loop", "tag_edges", "turn_angles",
+           "find_arcs", "junction_corners", "resampled_loop", "tag_edges",
            "OutlineMoments", "outline_moments", "SplineCurve"]

@@ -25,7 +25,7 @@ import numpy as np
 
 from .curves import Circle, Curve, unwrapped
 
-__all__ = ["tag_edges", "find_arcs", "curve_runs", "resampled_loop", "turn_angles",
+__all__ = ["tag_edges", "find_arcs", "curve_runs", "resampled_loop",
            "junction_corners", "MAX_TURN_DEG"]
 
 #: Largest turn of the tangent over one edge of the starting polygon of a curve.
@@ -248,15 +248,6 @@ def _run_through(edges: np.ndarray, start: int, n: int) -> set[int]:
         run.add(k)
         k = (k - 1) % n
     return run
-
-
-def turn_angles(xy: np.ndarray) -> np.ndarray:
-    """Left turn (radians) at each vertex of a closed loop."""
-    d_in = xy - np.roll(xy, 1, axis=0)
-    d_out = np.roll(xy, -1, axis=0) - xy
-    cross = d_in[:, 0] * d_out[:, 1] - d_in[:, 1] * d_out[:, 0]
-    dot = np.einsum("ij,ij->i", d_in, d_out)
-    return np.arctan2(cross, dot)
 
 
 def curve_runs(edge_curve: np.ndarray) -> list[tuple[int, int, int]]:
