@@ -90,7 +90,7 @@ def test_check_us_display_and_preset(square, capsys, monkeypatch):
     [
         (["--torque", "250 mm", "--length", "1 m", "--material", "steel"],
          "'250 mm' is a length, but a torque is expected"),
-        (["--torque", "250", "--length", "1 m", "--material", "steel"], "has no unit"),
+        (["--torque", "250 furlongs", "--length", "1 m", "--material", "steel"], "unknown unit"),
         (["--torque", "250 N*m", "--length", "1 m"], "no material"),
         (["--torque", "250 N*m", "--length", "1 m", "--material", "steel",
           "--allowable-shear", "100 MPa", "--yield", "300 MPa"], "cannot be combined"),
@@ -213,10 +213,10 @@ BAD_CASES = {
         STEPPED.format(drum="600 N*m", end="250 N*m").replace('"alloy-steel"', '"aloy steel"'),
         r"unknown material 'aloy steel' \(did you mean 'alloy-steel'",
     ),
-    "missing_units": (
+    "wrong_units": (
         STEPPED.format(drum="600 N*m", end="250 N*m").replace('length = "300 mm"',
-                                                               "length = 300"),
-        r"segment 2 \('neck'\) key 'length': 300 has no unit",
+                                                               'length = "300 N*m"'),
+        r"segment 2 \('neck'\) key 'length': '300 N\*m' is a torque, but a length",
     ),
     "length_for_torque": (
         STEPPED.format(drum="600 mm", end="250 N*m"),

@@ -143,6 +143,56 @@ def test_referenced_drawing_in_other_units_is_converted(tmp_path, monkeypatch):
     assert p.area == pytest.approx(2 * 25.4**2, rel=1e-12)
 
 
+def test_referenced_dxf_units_layer_and_join_tolerance(tmp_path, capsys):
+    """A DXF drawing referenced from a shape file: a drawing with a unit header is
+    converted (1 in = 25.4 mm, exact), one without is read in the shape file's unit;
+    the keys layer and join_tolerance reach the reader, and the reader's hints name
+    those keys, not command-line options."""
+    import ezdxf
+
+    def drawing(name, insunits, gap=0.0):
+        doc = ezdxf.new()
+        doc.header["$INSUNITS"] = insunits
+        doc.layers.add("OUTLINE")
+        msp = doc.modelspace()
+        pts = [(0, 0), (2, 0), (2, 1), (0, 1)]
+        for k in range(4):
+            a, b = pts[k], pts[(k + 1) % 4]
+            if k == 3:
+                b = (b[0], b[1] + gap)
+            msp.add_line(a, b, dxfattribs={"layer": "OUTLINE"})
+        msp.add_line((5, 5), (6, 6), dxfattribs={"layer": "NOTES"})
+        doc.saveas(tmp_path / name)
+
+    drawing("inch.dxf", 1)  # $INSUNITS 1 = inches
+    drawing("plain.dxf", 0)  # no unit
+    drawing("gappy.dxf", 0, gap=0.004)
+    f = write(tmp_path, 'units = "mm"\n[section]\nkind = "file"\nfile = "inch.dxf"\n'
+                        'layer = "OUTLINE"\n')
+    assert read_section(f).area == pytest.approx(2 * 25.4**2, rel=1e-12)
+    f = write(tmp_path, 'units = "cm"\n[section]\nkind = "file"\nfile = "plain.dxf"\n'
+                        'layer = ["OUTLINE"]\n')
+    p = read_section(f)
+    assert (p.units, p.area) == ("cm", pytest.approx(2.0, rel=1e-12))
+    # without the layer, the stray line on NOTES dangles: the hint names the key
+    f = write(tmp_path, '[section]\nkind = "file"\nfile = "plain.dxf"\n')
+    assert main(["solve", str(f)]) == 2
+    err = capsys.readouterr().err
+    assert 'layer = "NAME" in' in err and "--layer" not in err
+    # a gap of 0.004 (drawing units, here mm) closes with join_tolerance 0.005
+    f = write(tmp_path, '[section]\nkind = "file"\nfile = "gappy.dxf"\nlayer = "OUTLINE"\n')
+    assert main(["solve", str(f)]) == 2
+    err = capsys.readouterr().err
+    assert "join_tolerance = " in err and "--join-tolerance" not in err
+    f = write(tmp_path, '[section]\nkind = "file"\nfile = "gappy.dxf"\nlayer = "OUTLINE"\n'
+                        "join_tolerance = 0.005\n")
+    assert read_section(f).area == pytest.approx(2.0, rel=1e-2)
+    # the command line's DXF options do not apply to a shape file: said so, with the keys
+    assert main(["solve", str(f), "--layer", "OUTLINE"]) == 2
+    err = capsys.readouterr().err
+    assert "keys layer and join_tolerance" in err
+
+
 def test_missing_referenced_file(tmp_path, capsys):
     f = write(tmp_path, '[section]\nkind = "file"\nfile = "drawings/nope.txt"\n')
     fails(f, capsys, "s.toml [section]", "'drawings/nope.txt' not found")
@@ -164,10 +214,10 @@ chord = 0.05
 method = "direct"
 """)
     d = solve_json(tmp_path, f)
-    n = len(d["mesh"]["elements"])
+    n = d["mesh"]["elements"]
     assert 725 <= n <= 3 * 725
     d2 = solve_json(tmp_path, f, "--mesh-size", "4")
-    assert len(d2["mesh"]["elements"]) < n / 2
+    assert d2["mesh"]["elements"] < n / 2
     # chord 0.05 on radius 20: every edge's sagitta <= 0.05 (elementary)
     p = read_section(f)
     mid = 0.5 * (p.outer + np.roll(p.outer, -1, axis=0))
@@ -202,7 +252,7 @@ BAD = [
     ('units = "mmm"\n[section]\nkind = "round"\ndiameter = 4\n',
      ["unknown length unit 'mmm'", "did you mean 'mm'?"]),
     ('units = "in"\n[section]\nkind = "keyed_shaft"\ndiameter = 1.5\n',
-     ["table is in mm"]),
+     ["table is for shafts in mm"]),
     ('[section]\nkind = "round"\ndiameter = 4\nrotate = "left"\n',
      ["rotate must be an angle"]),
     ('[section]\nkind = "round"\ndiameter = 4\nposition = [1]\n', ["position must be [x, y]"]),

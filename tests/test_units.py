@@ -74,9 +74,6 @@ def test_twist_rate_units():
         ("250 mm", "torque", r"'250 mm' is a length, but a torque is expected"),
         ("250 N*m", "length", r"is a torque, but a length is expected"),
         ("36 ksi", "torque", r"is a stress, but a torque is expected"),
-        ("250", "torque", r"has no unit"),
-        (250, "torque", r"has no unit"),
-        ("2", "angle", r"has no unit"),
         ("250 furlongs_per_fortnight", "torque", r"unknown unit"),
         ("1800 lb*in", "torque", r"lbf"),
         ("", "length", r"empty"),
@@ -87,6 +84,51 @@ def test_bad_quantities_name_the_place(text, kind, message):
         parse_quantity(text, kind, "--torque")
     assert "--torque" in str(err.value)
     assert "\n" not in str(err.value)
+
+
+@pytest.mark.parametrize(("value", "kind"), [("250", "torque"), (250, "torque"), ("2", "angle")])
+def test_bare_numbers_refused_where_a_unit_is_required(value, kind):
+    with pytest.raises(InputError, match="has no unit"):
+        parse_quantity(value, kind, "--torque", bare=None)
+
+
+@pytest.mark.parametrize(
+    ("bare", "with_unit", "kind"),
+    [
+        # the one rule (README "Units"): a bare number is in N*m, mm, MPa, GPa, deg, deg/m
+        ("320", "320 N*m", "torque"),
+        (320, "320 N*m", "torque"),
+        ("80", "80 mm", "length"),
+        (120.5, "120.5 MPa", "stress"),
+        ("79.3", "79.3 GPa", "modulus"),
+        ("0.25", "0.25 deg/m", "twist_rate"),
+        ("1.5", "1.5 deg", "angle"),
+    ],
+)
+def test_bare_number_rule(bare, with_unit, kind):
+    assert parse_quantity(bare, kind, "x") == parse_quantity(with_unit, kind, "x")
+
+
+def test_bare_number_rule_values():
+    # 80 mm = 0.08 m; 79.3 GPa = 7.93e10 Pa; 0.25 deg/m = 0.25 pi/180 rad/m (SI definitions)
+    assert parse_quantity("80", "length", "x") == pytest.approx(0.08, rel=1e-15)
+    assert parse_quantity("79.3", "modulus", "x") == pytest.approx(7.93e10, rel=1e-15)
+    assert parse_quantity("0.25", "twist_rate", "x") == pytest.approx(
+        0.25 * math.pi / 180, rel=1e-15)
+
+
+def test_drawing_lengths():
+    from soapfilm.units import parse_drawing_length
+
+    bare = parse_drawing_length("0.5", "--mesh-size")
+    assert bare.in_unit("in") == 0.5 and bare.in_unit("mm") == 0.5  # the drawing's own unit
+    given = parse_drawing_length("0.5 mm", "--mesh-size")
+    # 0.5 mm = 0.5 / 25.4 in (inch = 25.4 mm exactly, NIST SP 811 B.8)
+    assert given.in_unit("in") == pytest.approx(0.5 / 25.4, rel=1e-14)
+    assert given.in_unit("mm") == pytest.approx(0.5, rel=1e-14)
+    for bad in ("-1", "0", "nan", "2 N*m", "inf"):
+        with pytest.raises(InputError):
+            parse_drawing_length(bad, "--mesh-size")
 
 
 def test_display_systems():

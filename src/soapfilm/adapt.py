@@ -57,8 +57,8 @@ __all__ = ["refine_until", "DEFAULT_TOL", "DEFAULT_MAX_ELEMENTS", "bulk_marked"]
 
 log = logging.getLogger(__name__)
 
-DEFAULT_TOL = 1e-3
-DEFAULT_MAX_ELEMENTS = 1_000_000
+from .defaults import DEFAULT_MAX_ELEMENTS, DEFAULT_TOL  # noqa: E402
+
 #: At most this many places round the peak are refined per step (the worst first):
 #: a peak on a long flat stretch (mid-wall of a box) has hundreds of candidate places,
 #: and quartering round all of them multiplied the mesh by 3 per step without

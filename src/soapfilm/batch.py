@@ -51,7 +51,7 @@ from pathlib import Path
 
 from .errors import InputError, SoapfilmError
 from .profile import LENGTH_UNITS, Profile
-from .result import CAUTION
+from .result import CAUTION, json_ready
 
 __all__ = [
     "Job", "Variant", "SweepPlan", "run_batch", "run_job", "sweep", "plan_sweep",
@@ -62,7 +62,8 @@ __all__ = [
 log = logging.getLogger(__name__)
 
 #: options a job may carry: keywords of :func:`soapfilm.analyse`, and ``units``
-OPTION_KEYS = ("units", "mesh_size", "method", "tol", "peak_tol", "max_elements", "order")
+OPTION_KEYS = ("units", "mesh_size", "method", "tol", "peak_tol", "max_elements", "order",
+               "layers", "join_tolerance")
 
 #: row key -> (power of length, CSV column stem, meaning)
 QUANTITIES: dict[str, tuple[int, str, str]] = {
@@ -150,39 +151,38 @@ def _empty_row(job: Job) -> dict:
     return row
 
 
-def _section(source, units: str | None) -> tuple[Profile, dict]:
+def _intake_options(options: Mapping):
+    """The job's options as :class:`~soapfilm.intake.SectionOptions`.
+
+    ``tol`` "auto" (or absent) means the default tolerance unless a mesh size
+    is given; a float ``mesh_size`` is in the section's own unit.
+    """
+    from .intake import SectionOptions
+
+    kw = {k: v for k, v in options.items() if k in OPTION_KEYS and v is not None}
+    if kw.get("tol") == "auto":
+        del kw["tol"]
+    if isinstance(kw.get("mesh_size"), int | float):
+        kw["mesh_size"] = repr(float(kw["mesh_size"]))  # bare: the section's unit
+    return SectionOptions(**kw)
+
+
+def _section(source, opts) -> tuple[Profile, dict]:
     """The profile of a job's source and the shape file's [mesh]/[solve] settings."""
-    from .readers import read_section
-    from .readers.shapefile import load_shapefile, shapefile_from_document
+    import dataclasses
+
+    from .intake import read_input, scale_note
+    from .readers.shapefile import shapefile_from_document
 
     if isinstance(source, Profile):
         return source, {}
     if isinstance(source, Variant):
-        sf = shapefile_from_document(source.document, source.path, units)
-        return sf.profile, dict(sf.settings)
-    path = Path(source)
-    if path.suffix.lower() == ".toml" and path.is_file():
-        sf = load_shapefile(path, units)
-        return sf.profile, dict(sf.settings)
-    return read_section(path, units), {}
-
-
-def _analyse_options(options: Mapping, settings: Mapping) -> dict:
-    from .adapt import DEFAULT_TOL
-    from .solve import DEFAULT_ORDER
-
-    mesh_size = options.get("mesh_size", settings.get("mesh_size"))
-    kw = {"mesh_size": mesh_size, "method": options.get("method", settings.get("method", "auto")),
-          "order": options.get("order", DEFAULT_ORDER)}
-    tol = options.get("tol")
-    if tol == "auto":
-        tol = None if mesh_size is not None else DEFAULT_TOL
-    if tol is not None:
-        kw["tol"] = tol
-        for key in ("peak_tol", "max_elements"):
-            if options.get(key) is not None:
-                kw[key] = options[key]
-    return kw
+        sf = shapefile_from_document(source.document, source.path, opts.units)
+        note = scale_note(sf.profile)
+        prof = sf.profile if not note else dataclasses.replace(
+            sf.profile, notes=(*sf.profile.notes, note))
+        return prof, dict(sf.settings)
+    return read_input(Path(source), opts)
 
 
 def _message(exc: BaseException) -> str:
@@ -198,13 +198,15 @@ def run_job(job: Job) -> dict:
     its message put in the row's ``error`` (the batch must go on); errors
     that are not soapfilm's own are logged with their traceback at DEBUG level.
     """
+    from .intake import analyse_options
     from .solve import analyse
 
     row = _empty_row(job)
     start = time.perf_counter()
     try:
-        profile, settings = _section(job.source, job.options.get("units"))
-        result = analyse(profile, **_analyse_options(job.options, settings))
+        opts = _intake_options(job.options)
+        profile, settings = _section(job.source, opts)
+        result = analyse(profile, **analyse_options(profile, settings, opts))
     except Exception as exc:  # noqa: BLE001 - isolation is the point
         if not isinstance(exc, SoapfilmError):
             log.debug("job %r failed", job.label, exc_info=True)
@@ -716,7 +718,7 @@ def csv_text(rows: Sequence[dict], unit: str | None = None, input_units: Mapping
     w.writerow(csv_columns(unit, keys, input_units))
     for row in rows:
         cells = [row["label"]] + [row["inputs"].get(k, "") for k in keys]
-        cells += [("" if row.get(k) is None else repr(float(row[k]))) for k in QUANTITIES]
+        cells += [_number_cell(row.get(k)) for k in QUANTITIES]
         cells += ["" if row.get(k) is None else row[k] for k in _OTHER[:2]]
         cells += [row.get("warnings", 0),
                   "" if row.get("seconds") is None else f"{row['seconds']:.3f}",
@@ -725,12 +727,31 @@ def csv_text(rows: Sequence[dict], unit: str | None = None, input_units: Mapping
     return buf.getvalue()
 
 
-def document(rows: Sequence[dict], unit: str | None = None, **extra) -> dict:
-    """JSON-ready document: unit, counts, the rows (converted) and the caution."""
+def _number_cell(value) -> str:
+    """A CSV cell: the number in full precision, empty when missing or not finite."""
+    if value is None or not math.isfinite(value):
+        return ""
+    return repr(float(value))
+
+
+def document(rows: Sequence[dict], unit: str | None = None, input_units: Mapping | None = None,
+             **extra) -> dict:
+    """JSON-ready document: unit, counts, the rows (converted) and the caution.
+
+    What ``soapfilm batch --json`` and ``soapfilm sweep --json`` write; every
+    key is described in README.md, section "JSON output", ``batch`` and
+    ``sweep``.  ``extra`` (``command``, ``inputs`` or ``shape_file`` and
+    ``vary``) follows ``units``; ``input_units`` (a sweep's key -> unit of its
+    values) is added when given.  Numbers are finite or None (null).
+    """
     unit = output_unit(rows, unit)
     rows = rows_in_unit(rows, unit)
     failed = sum(1 for r in rows if r.get("error"))
-    return {"units": unit, **extra, "count": len(rows), "failed": failed,
-            "quantities": {k: {"power_of_length": p, "meaning": m}
-                           for k, (p, _, m) in QUANTITIES.items()},
-            "rows": rows, "caution": CAUTION}
+    out = {"units": unit, **extra}
+    if input_units is not None:
+        out["input_units"] = dict(input_units)
+    out.update({"count": len(rows), "failed": failed,
+                "quantities": {k: {"power_of_length": p, "meaning": m}
+                               for k, (p, _, m) in QUANTITIES.items()},
+                "rows": rows, "caution": CAUTION})
+    return json_ready(out)

@@ -45,3 +45,8 @@ class GeometryError(InputError):
 
 class SolveError(SoapfilmError):
     """The numerical solution failed or could not reach what was asked."""
+
+
+#: exit status of a check that ran and failed (a batch with failed rows too);
+#: distinct from 1 (internal error) and 2 (user error)
+EXIT_CHECK_FAILED = 3

@@ -24,8 +24,7 @@ from .geometry.edges import tag_edges
 
 __all__ = ["Profile", "LENGTH_UNITS"]
 
-#: Length units a section may be given in, with their size in metres.
-LENGTH_UNITS = {"mm": 1e-3, "cm": 1e-2, "m": 1.0, "in": 0.0254, "ft": 0.3048}
+from .defaults import LENGTH_UNITS  # noqa: E402  (re-exported: its home is defaults)
 
 
 def _signed_area(xy: np.ndarray) -> float:
@@ -102,6 +101,11 @@ class Profile:
     curves: tuple[Curve, ...] = field(default=(), compare=False, repr=False)
     #: per loop (outer first), the curve index of each edge (-1 straight); () = all straight
     edge_curves: tuple[np.ndarray, ...] = field(default=(), compare=False, repr=False)
+    #: what the reader wants the user told (ignored entities, an implausible scale...):
+    #: they become warnings of every result of this section
+    notes: tuple[str, ...] = field(default=(), compare=False, repr=False)
+    #: False when the length unit was assumed (no --units, no unit in the file)
+    unit_stated: bool = field(default=True, compare=False, repr=False)
 
     def __post_init__(self):
         outer = np.ascontiguousarray(self.outer, dtype=np.float64)
@@ -124,6 +128,7 @@ class Profile:
             e.setflags(write=False)
         object.__setattr__(self, "edge_curves", tags)
         object.__setattr__(self, "curves", tuple(self.curves))
+        object.__setattr__(self, "notes", tuple(self.notes))
         if self.units not in LENGTH_UNITS:
             raise GeometryError(
                 f"unknown length unit {self.units!r}",
@@ -287,8 +292,9 @@ class Profile:
         off = np.asarray(offset, dtype=float)
         loops = [lp @ m.T + off for lp in self.loops]
         curves = tuple(c.moved(m, off) for c in self.curves)
-        return Profile.from_loops(loops, units=self.units, name=self.name, curves=curves,
-                                  edge_curves=self.edge_curves)
+        moved = Profile.from_loops(loops, units=self.units, name=self.name, curves=curves,
+                                   edge_curves=self.edge_curves)
+        return dataclasses.replace(moved, notes=self.notes, unit_stated=self.unit_stated)
 
     @property
     def is_polygon(self) -> bool:

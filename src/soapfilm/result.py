@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import math
+import warnings as _warnings
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -11,14 +12,10 @@ from .fem.torsion import TorsionFields
 from .mesh import Mesh
 from .profile import Profile
 
-__all__ = ["TorsionResult", "CAUTION"]
+__all__ = ["TorsionResult", "CAUTION", "json_ready"]
 
 #: Short caution carried by every report and check output.
-CAUTION = (
-    "Linear-elastic Saint-Venant torsion of a prismatic bar: no fatigue, no stress raisers "
-    "outside this section (keyway ends, shoulders, holes across the bar). Verify against the "
-    "governing design code and licensed engineering practice before use."
-)
+from .defaults import CAUTION  # noqa: E402  (re-exported; its home is defaults)
 
 
 def diameter_same_stiffness(j: float) -> float:
@@ -120,8 +117,26 @@ class TorsionResult:
 
         return BOUNDS_SCOPES[getattr(self.fields, "bounds_scope", "polygon")]
 
-    def to_dict(self, include_mesh: bool = True) -> dict:
-        """Plain-JSON dictionary; keys are stable (later versions only add)."""
+    def to_dict(self, include_mesh: bool | None = None) -> dict:
+        """Plain-JSON dictionary: what ``soapfilm solve --json`` writes.
+
+        Every key, its type, unit and meaning is in README.md, section "JSON
+        output", ``solve`` (tests/test_json_schema.py checks the output
+        against those tables).  Keys are stable: later versions only add.
+        ``mesh`` holds the mesh's sizes only; the mesh itself is written by
+        :func:`soapfilm.export.write_mesh` (``--mesh-out``).  Numbers are
+        finite or None (null).
+
+        Parameters
+        ----------
+        include_mesh : bool, optional
+            Deprecated and ignored (the mesh is always the summary).
+        """
+        if include_mesh is not None:
+            _warnings.warn(
+                "to_dict(include_mesh=...) is deprecated and ignored: 'mesh' always holds the "
+                "counts; write the mesh with soapfilm.export.write_mesh (solve --mesh-out)",
+                DeprecationWarning, stacklevel=2)
         lo, hi = self.torsion_constant_bounds
         out = {
             "units": self.units,
@@ -138,8 +153,8 @@ class TorsionResult:
             "peak_location": list(self.peak_location),
             "equivalent_diameter_stiffness": self.equivalent_diameter_stiffness,
             "equivalent_diameter_strength": self.equivalent_diameter_strength,
-            "estimated_relative_error": _json_safe(self.estimated_relative_error),
-            "refinement": [_json_safe(r) for r in self.refinement],
+            "estimated_relative_error": dict(self.estimated_relative_error),
+            "refinement": [dict(r) for r in self.refinement],
             "singular_corners": [
                 {"x": c.x, "y": c.y, "interior_angle_deg": c.angle} for c in self.corners
             ],
@@ -147,20 +162,13 @@ class TorsionResult:
             "element_order": self.order,
             "warnings": list(self.warnings),
             "caution": CAUTION,
-        }
-        if include_mesh:
-            out["mesh"] = {
-                "nodes": self.mesh.p.T.tolist(),
-                "elements": self.mesh.t.T.tolist(),
-                "order": self.order,
-            }
-        else:
-            out["mesh"] = {
+            "mesh": {
                 "nodes": self.mesh.nnodes,
                 "elements": self.mesh.nelements,
                 "order": self.order,
-            }
-        return out
+            },
+        }
+        return json_ready(out)
 
     def summary_rows(self) -> list[tuple[str, str, str]]:
         """(quantity, value, unit) rows for a terminal or report table."""
@@ -214,9 +222,32 @@ class TorsionResult:
         )
 
 
-def _json_safe(d: dict) -> dict:
-    """Non-finite floats (an error estimate not yet available) become None (null)."""
-    return {k: (None if isinstance(v, float) and not math.isfinite(v) else v) for k, v in d.items()}
+def json_ready(obj):
+    """A copy of ``obj`` that ``json.dumps(..., allow_nan=False)`` takes.
+
+    Dicts, lists and tuples are copied (tuples become lists, keys strings);
+    numpy scalars become Python numbers; a float that is not finite (an
+    estimate not yet available, a quotient by zero) becomes None (null), so
+    the JSON never holds NaN or Infinity.
+
+    Examples
+    --------
+    >>> json_ready({"a": (1.5, float("nan")), "b": {"c": float("inf")}})
+    {'a': [1.5, None], 'b': {'c': None}}
+    """
+    if isinstance(obj, dict):
+        return {str(k): json_ready(v) for k, v in obj.items()}
+    if isinstance(obj, (list, tuple)):
+        return [json_ready(v) for v in obj]
+    if isinstance(obj, np.ndarray):
+        return json_ready(obj.tolist())
+    if isinstance(obj, (bool, np.bool_)):
+        return bool(obj)
+    if isinstance(obj, (int, np.integer)):
+        return int(obj)
+    if isinstance(obj, (float, np.floating)):
+        return float(obj) if math.isfinite(obj) else None
+    return obj
 
 
 def nodal_shear_magnitude(result: TorsionResult) -> np.ndarray:

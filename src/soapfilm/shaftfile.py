@@ -2,8 +2,10 @@
 
 A shaft file lists segments in order along the axis from x = 0, torques
 applied at stations, and stations held against turning.  Every physical
-value is text with a unit (``length = "60 mm"``); a bare number is refused.
-See ``notes/shaft.md`` for the table of keys.
+value is text with its unit (``length = "60 mm"``) or a bare number in the
+unit of the one rule (:data:`soapfilm.units.BARE_UNITS`: mm, N*m, MPa, GPa,
+deg/m); a section's ``mesh_size`` and ``join_tolerance`` are lengths of its
+drawing, bare in the drawing's unit.  The README lists the keys.
 
 Sections are resolved by :class:`SectionSource`, which caches the analysis
 of each section file (by resolved path and unit) within one run.
@@ -13,6 +15,7 @@ from __future__ import annotations
 
 import difflib
 import logging
+import math
 import tomllib
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -23,8 +26,10 @@ from .errors import InputError
 from .materials import Allowable, Material, allowable_shear, criterion_key, material
 from .profile import LENGTH_UNITS
 from .shaft import (
+    DEFAULT_TWIST_BASIS,
     DEFAULT_TWIST_LIMIT,
     TWIST_LIMIT_NOTE,
+    TWIST_RULES,
     Load,
     Section,
     Segment,
@@ -34,20 +39,21 @@ from .shaft import (
     round_section,
     section_from_result,
 )
-from .units import parse_number, parse_quantity
+from .units import parse_drawing_length, parse_number, parse_quantity
 
-__all__ = ["SectionSource", "CheckOptions", "read_shaft", "shaft_from_dict", "resolve_allowable"]
+__all__ = ["SectionSource", "CheckOptions", "read_shaft", "shaft_from_dict", "resolve_allowable",
+           "twist_basis_of", "shapefile_kts_basis", "check_safety_factor"]
 
 log = logging.getLogger(__name__)
 
-_TOP_KEYS = {"name", "description", "twist_limit", "section_units", "check", "materials",
-             "segment", "load", "support"}
+_TOP_KEYS = {"name", "description", "twist_limit", "twist_rule", "section_units", "check",
+             "materials", "segment", "load", "support"}
 _CHECK_KEYS = {"material", "allowable_shear", "yield_strength", "criterion", "safety_factor"}
 _MATERIAL_KEYS = {"based_on", "label", "shear_modulus", "yield_strength"}
 _SEGMENT_KEYS = {"name", "length", "section", "material", "shear_modulus", "yield_strength",
                  "allowable_shear"}
 _SECTION_KEYS = {"diameter", "bore", "file", "outline", "holes", "units", "nominal_diameter",
-                 "mesh_size"}
+                 "mesh_size", "layer", "join_tolerance"}
 _LOAD_KEYS = {"name", "at", "torque"}
 _SUPPORT_KEYS = {"name", "at"}
 
@@ -68,51 +74,81 @@ class SectionSource:
 
     Parameters
     ----------
-    mesh_size : float, optional
-        Element size for the finite-element sections, in metres (default:
-        the solver's own choice).
+    options : soapfilm.intake.SectionOptions, optional
+        The command line's section-input options (units, DXF layers and join
+        tolerance, mesh size, accuracy); a shaft file's section keys override
+        them per section.
     """
 
-    mesh_size: float | None = None
+    options: object = None
     cache: dict = field(default_factory=dict)
 
+    def _options(self, units, mesh_size, layers=None, join_tolerance=None):
+        import dataclasses
+
+        from .intake import SectionOptions
+        from .units import DrawingLength
+
+        opts = self.options or SectionOptions()
+        change = {}
+        if units is not None:
+            change["units"] = units
+        if isinstance(mesh_size, DrawingLength):
+            change["mesh_size"] = mesh_size
+        elif mesh_size is not None:
+            change["mesh_size"] = DrawingLength(metres=mesh_size, text=f"{mesh_size:g} m")
+        if layers is not None:
+            change["layers"] = tuple(layers)
+        if join_tolerance is not None:
+            change["join_tolerance"] = join_tolerance
+        return dataclasses.replace(opts, **change) if change else opts
+
     def from_file(self, path, units: str | None, where: str,
-                  nominal_diameter: float | None = None, mesh_size: float | None = None,
-                  missing_fix: str = "check the path") -> tuple[Section, object]:
+                  nominal_diameter: float | None = None, mesh_size=None,
+                  missing_fix: str = "check the path",
+                  nominal_source: str = "given", layers=None, join_tolerance=None,
+                  hints: dict | None = None) -> tuple[Section, object]:
         """Analyse a section file (any registered reader); return (Section, TorsionResult).
 
-        ``nominal_diameter`` and ``mesh_size`` are in metres.
+        ``nominal_diameter`` is in metres, ``mesh_size`` in metres or a
+        :class:`~soapfilm.units.DrawingLength`; ``layers`` and ``join_tolerance``
+        (a DrawingLength) are for DXF drawings; ``hints`` name the options in the
+        user's words where the section comes from a file (see
+        :mod:`soapfilm.readers._names`).  Without a nominal diameter, a shape
+        file of a round-based kind with a stress raiser gives its own
+        (:func:`shapefile_kts_basis`).
         """
-        from .adapt import DEFAULT_TOL
-        from .readers import read_section
-        from .solve import analyse
+        from .intake import solve_input
+        from .readers._names import options_named
 
         path = Path(path)
         if units is not None and units not in LENGTH_UNITS:
             raise InputError(f"unknown length unit {units!r}", where=where,
                              fix=f"use one of {', '.join(LENGTH_UNITS)}")
-        size = mesh_size if mesh_size is not None else self.mesh_size
-        key = (str(path.resolve()), units, size)
+        opts = self._options(units, mesh_size, layers, join_tolerance)
+        key = (str(path.resolve()), opts)
         if key not in self.cache:
             if not path.exists():
                 raise InputError(f"section file {str(path)!r} not found", where=where,
                                  fix=missing_fix)
-            profile = read_section(path, units)
             log.info("analysing section %s", path)
-            h = None if size is None else size / LENGTH_UNITS[profile.units]
-            # as `soapfilm solve`: adaptive to the default tolerance unless a mesh size is given
-            self.cache[key] = analyse(profile, mesh_size=h, tol=None if h else DEFAULT_TOL)
+            with options_named(hints or {}):
+                self.cache[key] = solve_input(path, opts)
         result = self.cache[key]
+        bore = None
         if nominal_diameter is None and nominal_diameter_hint(result) is None:
-            d = shapefile_nominal_diameter(path)
-            if d is not None:
-                nominal_diameter = d * LENGTH_UNITS[result.units]
-        return section_from_result(result, nominal_diameter, name=path.stem), result
+            basis = shapefile_kts_basis(path)
+            if basis is not None:
+                s = LENGTH_UNITS[result.units]
+                d, b, nominal_source = basis
+                nominal_diameter, bore = d * s, (b * s if b else None)
+        return section_from_result(result, nominal_diameter, name=path.stem, nominal_bore=bore,
+                                   nominal_source=nominal_source), result
 
     def from_outline(self, outline, holes, units: str, where: str,
                      nominal_diameter: float | None, name: str, mesh_size: float | None = None
                      ) -> tuple[Section, object]:
-        from .adapt import DEFAULT_TOL
+        from .intake import analyse_options
         from .profile import Profile
         from .solve import analyse
 
@@ -122,16 +158,16 @@ class SectionSource:
         except (TypeError, ValueError):
             raise InputError("outline and holes must be lists of [x, y] number pairs",
                              where=where) from None
-        key = ("outline", tuple(a.tobytes() for a in loops), units, mesh_size)
+        opts = self._options(None, mesh_size)
+        key = ("outline", tuple(a.tobytes() for a in loops), units, opts)
         if key not in self.cache:
             profile = Profile.from_loops(
                 loops, units=units, name=name,
                 labels=[f"{where} outline"] + [f"{where} hole {k}" for k in range(1, len(loops))])
-            size = mesh_size if mesh_size is not None else self.mesh_size
-            h = None if size is None else size / LENGTH_UNITS[units]
-            self.cache[key] = analyse(profile, mesh_size=h, tol=None if h else DEFAULT_TOL)
+            self.cache[key] = analyse(profile, **analyse_options(profile, {}, opts))
         result = self.cache[key]
-        return section_from_result(result, nominal_diameter, name=name), result
+        return section_from_result(result, nominal_diameter, name=name,
+                                   nominal_source=f"{where} key 'nominal_diameter'"), result
 
     def from_spec(self, spec, base: Path, default_units: str | None, where: str,
                   name: str) -> Section:
@@ -156,8 +192,8 @@ class SectionSource:
             nominal = parse_quantity(spec["nominal_diameter"], "length",
                                      f"{where} key 'nominal_diameter'")
         mesh_size = None
-        if "mesh_size" in spec:
-            mesh_size = parse_quantity(spec["mesh_size"], "length", f"{where} key 'mesh_size'")
+        if "mesh_size" in spec:  # a bare number is in the section's own unit
+            mesh_size = parse_drawing_length(spec["mesh_size"], f"{where} key 'mesh_size'")
         units = spec.get("units", default_units)
         if units is not None and units not in LENGTH_UNITS:
             raise InputError(f"unknown length unit {units!r}", where=f"{where} key 'units'",
@@ -173,7 +209,7 @@ class SectionSource:
                                  where=f"{where} key 'bore'")
             sec = round_section(d, bore)
             if nominal is not None:
-                sec = _with_nominal(sec, nominal)
+                sec = _with_nominal(sec, nominal, f"{where} key 'nominal_diameter'")
             return sec
         for k in ("bore",):
             if k in spec:
@@ -182,26 +218,102 @@ class SectionSource:
             path = Path(spec["file"])
             if not path.is_absolute():
                 path = base / path
+            layers = spec.get("layer")
+            if layers is not None:
+                layers = [layers] if isinstance(layers, str) else layers
+                if not (isinstance(layers, list) and layers
+                        and all(isinstance(x, str) and x for x in layers)):
+                    raise InputError("layer must be a layer name or a list of names",
+                                     where=f"{where} key 'layer'", fix='e.g. layer = "OUTLINE"')
+            jt = None
+            if "join_tolerance" in spec:
+                jt = parse_drawing_length(spec["join_tolerance"], f"{where} key 'join_tolerance'")
+            # the shaft command's own options apply to every section; a section table's
+            # keys to this one
+            hints = {"layers": f'--layer {{0}}, or layer = "{{0}}" in {where}',
+                     "join_tolerance": f"--join-tolerance {{0}}, or join_tolerance = {{0}} "
+                                       f"in {where}",
+                     "units": f'--units {{0}}, or units = "{{0}}" in {where}',
+                     "mesh_size": f"--mesh-size {{0}}, or mesh_size = {{0}} in {where}"}
             # units None: the reader decides (its own header, else mm)
             return self.from_file(path, units, where, nominal, mesh_size,
-                                  missing_fix="paths are relative to the shaft file")[0]
+                                  missing_fix="paths are relative to the shaft file",
+                                  layers=layers, join_tolerance=jt, hints=hints)[0]
+        for k in ("layer", "join_tolerance"):
+            if k in spec:
+                raise InputError(f"'{k}' goes with 'file' (a DXF drawing) only", where=where)
         outline = spec["outline"]
         holes = spec.get("holes", [])
         return self.from_outline(outline, holes, units or "mm", where, nominal, name,
                                  mesh_size)[0]
 
 
-#: shape-file kinds whose ``diameter`` is the nominal diameter for Kts (round-based)
-ROUND_BASED_KINDS = ("round", "tube", "keyed", "flat")
+#: round-based shape-file kinds with a stress raiser of their own, and the key of the
+#: diameter their Kts is based on
+RAISER_KINDS = {
+    "keyed_shaft": ("diameter", "diameter"),
+    "flatted_shaft": ("diameter", "diameter"),
+    "straight_spline": ("minor_diameter", "minor diameter (root circle)"),
+    "involute_spline": ("minor_diameter", "minor diameter (root circle)"),
+}
+#: plain round kinds: a base for a stress raiser, none of their own
+ROUND_KINDS = ("round", "tube")
 
 
-def shapefile_nominal_diameter(path) -> float | None:
-    """Nominal diameter written in a TOML shape file, in the file's length unit.
+def _round_base(part: dict) -> tuple[float, float, str] | None:
+    """(d, bore, words) of a round-based part of a shape file, or None."""
+    kind = part.get("kind")
 
-    Hook for the parametric round-based kinds: ``[section] nominal_diameter``
-    if present, else ``[section] diameter`` when the kind is round-based
-    (keyed shafts, flats, round, tube).  None for anything else, including
-    files that are not TOML.
+    def number(key):
+        v = part.get(key)
+        return float(v) if isinstance(v, int | float) and not isinstance(v, bool) else None
+
+    if kind in RAISER_KINDS:
+        key, words = RAISER_KINDS[kind]
+        d = number(key)
+        if d is None and kind == "involute_spline":
+            from .shapes.splines import involute_defaults
+
+            m, z = number("module"), part.get("teeth")
+            if m is None or not isinstance(z, int):
+                return None
+            try:
+                d = involute_defaults(m, z, number("pressure_angle") or 30.0,
+                                      part.get("root", "flat"))[1]
+            except (KeyError, TypeError, ValueError):
+                return None
+            words += ", by default"
+        return (d, 0.0, f"{kind} {words}") if d else None
+    if kind == "round" and number("diameter"):
+        return number("diameter"), 0.0, "round diameter"
+    if kind == "tube" and number("diameter") and number("wall"):
+        d = number("diameter")
+        return d, max(d - 2 * number("wall"), 0.0), "tube diameter"
+    return None
+
+
+def _centre(part: dict) -> tuple[float, float]:
+    pos = part.get("position", (0.0, 0.0))
+    try:
+        return float(pos[0]), float(pos[1])
+    except (TypeError, ValueError, IndexError):
+        return (math.nan, math.nan)
+
+
+def shapefile_kts_basis(path) -> tuple[float, float, str] | None:
+    """Nominal diameter, bore and their source for Kts, from a TOML shape file.
+
+    Kts measures a stress raiser on a round base, so only such sections get
+    one: keyed and flatted shafts (their diameter), splines (their minor
+    diameter, the root circle: the basis of the published splined-shaft
+    charts, from memory), and parts built on a round bar, tube, keyed shaft
+    or spline with something more than a concentric bore.  A plain round bar
+    or tube, and a round with only a concentric bore, have none (their
+    tau_max / (16 T / (pi d^3)) would be the hollow-section effect, not a
+    stress concentration).  A concentric round bore of a raiser section
+    enters the nominal stress, 16 T d / (pi (d^4 - d_i^4)).
+    ``[section] nominal_diameter`` wins.  Lengths in the file's unit; None
+    for anything else, including files that are not TOML.
     """
     path = Path(path)
     if path.suffix.lower() != ".toml":
@@ -211,21 +323,77 @@ def shapefile_nominal_diameter(path) -> float | None:
     except (OSError, UnicodeDecodeError, tomllib.TOMLDecodeError):
         return None
     sec = doc.get("section")
-    if not isinstance(sec, dict):
+    parts = doc.get("part")
+    if isinstance(sec, dict):
+        d = sec.get("nominal_diameter")
+        if isinstance(d, int | float) and not isinstance(d, bool) and d > 0:
+            return float(d), 0.0, "shape file [section] nominal_diameter"
+        if sec.get("kind") in ROUND_KINDS:
+            return None
+        base = _round_base(sec)
+        return None if base is None else (base[0], base[1], f"shape file: {base[2]}")
+    if not (isinstance(parts, list) and parts and all(isinstance(p, dict) for p in parts)):
         return None
-    d = sec.get("nominal_diameter")
-    kind = str(sec.get("kind", "")).lower()
-    if d is None and any(k in kind for k in ROUND_BASED_KINDS):
-        d = sec.get("diameter")
-    if isinstance(d, int | float) and not isinstance(d, bool) and d > 0:
-        return float(d)
-    return None
+    base = _round_base(parts[0])
+    if base is None:
+        return None
+    d, bore, words = base
+    raiser = parts[0].get("kind") not in ROUND_KINDS
+    centre = _centre(parts[0])
+    for part in parts[1:]:
+        if (part.get("action") == "cut" and part.get("kind") == "round"
+                and _centre(part) == centre and isinstance(part.get("diameter"), int | float)):
+            bore = max(bore, float(part["diameter"]))  # a concentric bore: part of the base
+        else:
+            raiser = True
+    if not raiser or not d > bore:
+        return None
+    return d, bore, f"shape file: {words} of the first part"
 
 
-def _with_nominal(sec: Section, d: float) -> Section:
+def shapefile_nominal_diameter(path) -> float | None:
+    """The nominal diameter of :func:`shapefile_kts_basis` alone (file unit), or None."""
+    basis = shapefile_kts_basis(path)
+    return None if basis is None else basis[0]
+
+
+def _with_nominal(sec: Section, d: float, source: str) -> Section:
     from dataclasses import replace
 
-    return replace(sec, nominal_diameter=d)
+    return replace(sec, nominal_diameter=d, nominal_source=source)
+
+
+def twist_basis_of(text) -> float:
+    """Length (m) a twist limit is written per: ``"0.25 deg/m"`` -> 1 m.
+
+    ``"0.08 deg/ft"`` -> 0.3048 m; ``"1 deg/(800 mm)"`` -> 0.8 m (the rule
+    "1 deg in 20 diameters" for d = 40 mm); a bare number (deg/m) or a
+    form without ``/`` -> the length unit pint finds in it, else 1 m.
+    """
+    if not isinstance(text, str):
+        return DEFAULT_TWIST_BASIS
+    from .units import registry
+
+    ureg = registry()
+    body = text.strip().replace("°", " deg ")
+    try:
+        if "/" in body:
+            per = body.rsplit("/", 1)[1].strip()
+            if per.startswith("(") and per.endswith(")"):
+                per = per[1:-1]
+            q = ureg.Quantity(per)
+            if q.dimensionality == ureg.get_dimensionality("[length]"):
+                length = float(q.to("m").magnitude)
+                if length > 0 and math.isfinite(length):
+                    return length
+        q = ureg.Quantity(body)
+        for name, power in q.unit_items():
+            if power == -1 and ureg.Quantity(1, name).dimensionality == \
+                    ureg.get_dimensionality("[length]"):
+                return float(ureg.Quantity(1, name).to("m").magnitude)
+    except Exception:  # pint's parser errors: the value itself was checked elsewhere
+        pass
+    return DEFAULT_TWIST_BASIS
 
 
 # --------------------------------------------------------------------------- allowables
@@ -240,6 +408,17 @@ class CheckOptions:
     twist_limit: float | None = None
     shear_modulus: float | None = None
     material: str | None = None
+    twist_rule: str | None = None
+    twist_basis: float | None = None
+
+
+def check_safety_factor(n: float | None, where: str) -> float | None:
+    """A safety factor must be at least 1 (below 1 it would raise the allowable above yield)."""
+    if n is not None and not n >= 1:
+        raise InputError(f"safety factor {n:g} is below 1: it would allow more than the "
+                         "yield-based shear strength", where=where,
+                         fix="give a safety factor of 1 or more (1 = none)")
+    return n
 
 
 def resolve_allowable(
@@ -251,8 +430,14 @@ def resolve_allowable(
     where: str,
     allowable_note: str = "given",
     yield_note: str | None = None,
+    safety_factor_where: str = "--safety-factor",
 ) -> Allowable:
-    """Pick the allowable shear stress: given > yield with criterion > material's yield."""
+    """Pick the allowable shear stress: given > yield with criterion > material's yield.
+
+    A safety factor below 1 is refused (``safety_factor_where`` names where
+    it was given).
+    """
+    check_safety_factor(safety_factor, safety_factor_where)
     if allowable is not None:
         if allowable <= 0:
             raise InputError("the allowable shear stress must be positive", where=where)
@@ -269,6 +454,17 @@ def resolve_allowable(
         raise InputError("the yield strength must be positive", where=where)
     return allowable_shear(sy, criterion or "von-mises",
                            1.0 if safety_factor is None else safety_factor, yield_note=note)
+
+
+def _refuse_with_allowable(table: dict, keys, where: str) -> None:
+    """As ``check`` refuses --yield/--criterion/--safety-factor with --allowable-shear."""
+    if "allowable_shear" not in table:
+        return
+    for key in keys:
+        if key in table:
+            raise InputError(f"'{key}' cannot be combined with 'allowable_shear'", where=where,
+                             fix="allowable_shear is used as given (no criterion, no safety "
+                                 "factor); drop one of the two")
 
 
 # --------------------------------------------------------------------------- shaft files
@@ -322,29 +518,39 @@ def shaft_from_dict(data: dict, base: Path, where: str, options: CheckOptions | 
                          fix=f"use one of {', '.join(LENGTH_UNITS)}")
     if opts.twist_limit is not None:
         twist_limit, twist_note = opts.twist_limit, "given with --twist-limit"
+        twist_basis = opts.twist_basis or DEFAULT_TWIST_BASIS
     elif "twist_limit" in data:
         twist_limit = parse_quantity(data["twist_limit"], "twist_rate",
                                      f"{where} key 'twist_limit'")
         twist_note = "given in the shaft file"
+        twist_basis = twist_basis_of(data["twist_limit"])
     else:
         twist_limit, twist_note = DEFAULT_TWIST_LIMIT, TWIST_LIMIT_NOTE
+        twist_basis = DEFAULT_TWIST_BASIS
     if not twist_limit > 0:
         raise InputError("the twist limit must be positive", where=f"{where} key 'twist_limit'")
+    twist_rule = opts.twist_rule or data.get("twist_rule", "spans")
+    if twist_rule not in TWIST_RULES:
+        raise InputError(f"unknown twist rule {twist_rule!r}",
+                         where="--twist-rule" if opts.twist_rule else f"{where} key 'twist_rule'",
+                         fix=f"use {' or '.join(repr(k) for k in TWIST_RULES)}")
 
     check = data.get("check", {})
     if not isinstance(check, dict):
         raise InputError("'check' must be a table", where=where, fix="write [check]")
     _check_keys(check, _CHECK_KEYS, f"{where} [check]")
     cw = f"{where} [check]"
+    _refuse_with_allowable(check, ("yield_strength", "criterion", "safety_factor"), cw)
     file_allow = _q(check, "allowable_shear", "stress", cw, required=False)
     file_yield = _q(check, "yield_strength", "stress", cw, required=False)
     criterion = opts.criterion or check.get("criterion")
     if criterion is not None:
         criterion = criterion_key(criterion, "--criterion" if opts.criterion else
                                   f"{cw} key 'criterion'")
-    sf = opts.safety_factor
+    sf, sf_where = opts.safety_factor, "--safety-factor"
     if sf is None and "safety_factor" in check:
-        sf = parse_number(check["safety_factor"], f"{cw} key 'safety_factor'")
+        sf_where = f"{cw} key 'safety_factor'"
+        sf = check_safety_factor(parse_number(check["safety_factor"], sf_where), sf_where)
 
     # user materials
     user_mats: dict[str, Material] = {}
@@ -396,6 +602,7 @@ def shaft_from_dict(data: dict, base: Path, where: str, options: CheckOptions | 
         if not isinstance(s, dict):
             raise InputError("must be a table", where=sw)
         _check_keys(s, _SEGMENT_KEYS, sw)
+        _refuse_with_allowable(s, ("yield_strength",), sw)
         length = _q(s, "length", "length", sw)
         if not length > 0:
             raise InputError("length must be positive", where=f"{sw} key 'length'")
@@ -434,13 +641,24 @@ def shaft_from_dict(data: dict, base: Path, where: str, options: CheckOptions | 
             allow, note = allow_seg, "given for the segment"
         else:
             allow, note = file_allow, "given in [check]"
+        if allow is not None and opts.allowable_shear is None:
+            for value, opt in ((opts.safety_factor, "--safety-factor"),
+                               (opts.criterion, "--criterion")):
+                if value is not None:
+                    raise InputError(
+                        f"{opt} cannot be combined with the allowable_shear of the shaft file",
+                        where=f"{sw} key 'allowable_shear'" if allow_seg is not None
+                        else f"{cw} key 'allowable_shear'",
+                        fix=f"the file's allowable shear stress is used as given; drop {opt}, "
+                            "or give --yield to derive the allowable from a yield strength")
         if opts.yield_strength is not None:
             sy, ynote = opts.yield_strength, "--yield"
         elif sy_seg is not None:
             sy, ynote = None, None  # already in the material
         else:
             sy, ynote = file_yield, "[check] yield_strength"
-        allowable = resolve_allowable(mat, allow, sy, criterion, sf, sw, note, ynote)
+        allowable = resolve_allowable(mat, allow, sy, criterion, sf, sw, note, ynote,
+                                      safety_factor_where=sf_where)
         segments.append(Segment(name, length, section, mat, allowable))
 
     total = sum(s.length for s in segments)
@@ -487,6 +705,8 @@ def shaft_from_dict(data: dict, base: Path, where: str, options: CheckOptions | 
         supports=tuple(supports),
         twist_limit=twist_limit,
         twist_limit_note=twist_note,
+        twist_basis=twist_basis,
+        twist_rule=twist_rule,
     )
 
 

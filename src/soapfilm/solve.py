@@ -39,7 +39,7 @@ log = logging.getLogger(__name__)
 #: curved edges.  Their boundary shear converges at order 2 in h where linear
 #: triangles' converges at order 1 (the peak shear is a boundary gradient), and their
 #: J bracket at order 4 against 2; measured in DEVELOPERS.md ("Accuracy").
-DEFAULT_ORDER = 2
+from .defaults import DEFAULT_ORDER  # noqa: E402
 
 
 @dataclass(frozen=True)
@@ -303,7 +303,7 @@ def result_from_mesh(
         torsion_constant_bounds=(j_lo, j_hi),
         max_shear_per_torque=peak.value / j,
         peak_location=peak.location,
-        warnings=tuple(corner_warnings(corners, profile.units, zone))
+        warnings=tuple(profile.notes) + tuple(corner_warnings(corners, profile.units, zone))
         + tuple(traced_warnings(peak, profile.units)) + tuple(bounds_warnings(fields))
         + tuple(warnings),
         refinement=tuple(refinement),

@@ -13,8 +13,8 @@ from __future__ import annotations
 
 import math
 
+from .defaults import LENGTH_UNITS
 from .errors import InputError
-from .profile import LENGTH_UNITS
 
 __all__ = ["STRESS_UNITS", "ShearScale", "shear_scale"]
 

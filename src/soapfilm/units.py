@@ -25,6 +25,9 @@ from dataclasses import dataclass
 from .errors import InputError
 
 __all__ = [
+    "BARE_UNITS",
+    "DrawingLength",
+    "parse_drawing_length",
     "KINDS",
     "UnitSystem",
     "SYSTEMS",
@@ -43,6 +46,20 @@ KINDS: dict[str, tuple[str, str, str]] = {
     "angle": ("", "rad", '"1.5 deg" or "0.02 rad"'),
     "twist_rate": ("1 / [length]", "rad/m", '"0.25 deg/m" or "0.08 deg/ft"'),
     "stiffness": ("[mass] * [length] ** 2 / [time] ** 2", "N*m/rad", '"5e4 N*m/rad"'),
+}
+
+#: The one rule for bare numbers: a physical value given without a unit (on the
+#: command line or in a shaft file) is in this unit.  Lengths that belong to a
+#: drawing (mesh size, join tolerance) are the exception, stated in their help:
+#: a bare number there is in the drawing's own length unit (:class:`DrawingLength`).
+BARE_UNITS: dict[str, str] = {
+    "length": "mm",
+    "torque": "N*m",
+    "stress": "MPa",
+    "modulus": "GPa",
+    "angle": "deg",
+    "twist_rate": "deg/m",
+    "stiffness": "N*m/rad",
 }
 
 _NAMES = {
@@ -94,14 +111,29 @@ def _normalised(text: str) -> str:
     return _HYPHEN.sub("*", text)
 
 
-def parse_quantity(value, kind: str, where: str) -> float:
+def _bare_number(value) -> float | None:
+    """The number when ``value`` is a plain number or text holding only one."""
+    if isinstance(value, bool):
+        return None
+    if isinstance(value, int | float):
+        return float(value)
+    if isinstance(value, str):
+        try:
+            return float(value.strip())
+        except ValueError:
+            return None
+    return None
+
+
+def parse_quantity(value, kind: str, where: str, bare: str | None = "default") -> float:
     """Parse a quantity with its unit and return it in SI base units.
 
     Parameters
     ----------
-    value : str
-        Text such as ``"250 N*m"``; a bare number is refused (units are
-        required so that nothing is silently assumed).
+    value : str or number
+        Text such as ``"250 N*m"``.  A bare number (``250`` or ``"250"``) is in
+        the unit ``bare`` names: by default :data:`BARE_UNITS` of the kind
+        (the rule the command line documents), None refuses it.
     kind : str
         One of :data:`KINDS`: the dimension expected at this place.
     where : str
@@ -128,6 +160,12 @@ def parse_quantity(value, kind: str, where: str) -> float:
     if kind not in KINDS:
         raise ValueError(f"unknown quantity kind {kind!r}")
     example = KINDS[kind][2]
+    number = _bare_number(value)
+    if number is not None and bare is not None:
+        unit = BARE_UNITS[kind] if bare == "default" else bare
+        if not math.isfinite(number):
+            raise InputError(f"{value!r} is not a finite value", where=where)
+        return parse_quantity(f"{number!r} {unit}", kind, where, bare=None)
     if isinstance(value, bool) or isinstance(value, int | float):
         if kind == "angle":
             raise InputError(f"{value!r} has no unit", where=where,
@@ -284,5 +322,46 @@ def parse_positive(value, kind: str, where: str) -> float | None:
         return None
     q = parse_quantity(value, kind, where)
     if not q > 0:
-        raise InputError("must be positive", where=where)
+        raise InputError(f"must be positive, got {value!r}", where=where)
     return q
+
+
+@dataclass(frozen=True)
+class DrawingLength:
+    """A length that belongs to a drawing: given with a unit, or bare in the drawing's unit.
+
+    Mesh sizes and join tolerances are typed before the drawing is read, so
+    their unit may only be known later: ``metres`` holds a value given with a
+    unit, ``bare`` a number meant in whatever unit the section turns out to use.
+    """
+
+    metres: float | None = None
+    bare: float | None = None
+    text: str = ""
+
+    def in_unit(self, unit: str, metres_per_unit: float | None = None) -> float:
+        """The length in ``unit`` (a key of LENGTH_UNITS), or per ``metres_per_unit``."""
+        if self.bare is not None:
+            return self.bare
+        from .defaults import LENGTH_UNITS
+
+        scale = LENGTH_UNITS[unit] if metres_per_unit is None else metres_per_unit
+        return self.metres / scale
+
+    def __str__(self) -> str:
+        return self.text or (f"{self.bare:g}" if self.bare is not None else f"{self.metres:g} m")
+
+
+def parse_drawing_length(value, where: str) -> DrawingLength | None:
+    """``"0.5 mm"`` or a bare ``0.5`` (the drawing's unit) -> :class:`DrawingLength`; None passes."""
+    if value is None or isinstance(value, DrawingLength):
+        return value
+    number = _bare_number(value)
+    if number is not None:
+        if not (math.isfinite(number) and number > 0):
+            raise InputError(f"must be a positive length, got {value!r}", where=where)
+        return DrawingLength(bare=number, text=str(value).strip())
+    metres = parse_quantity(value, "length", where, bare=None)
+    if not metres > 0:
+        raise InputError(f"must be a positive length, got {value!r}", where=where)
+    return DrawingLength(metres=metres, text=str(value).strip())

@@ -13,7 +13,7 @@ import importlib
 import logging
 import sys
 
-from ..errors import SoapfilmError
+from ..errors import EXIT_CHECK_FAILED, SoapfilmError
 
 __all__ = ["main", "SUBCOMMANDS"]
 
@@ -26,30 +26,44 @@ class _Parser(argparse.ArgumentParser):
         self.exit(2, f"{self.prog}: error: {message} (see '{self.prog} --help')\n")
 
 
+_EPILOG = ("exit status: 0 done (a check passed), 1 internal error (a bug: rerun with "
+           "--debug), 2 user error (one line on stderr; nothing written), "
+           f"{EXIT_CHECK_FAILED} a check ran and failed (or a batch row failed). "
+           "Units: a value with its unit is taken as given; a bare number is in N*m, mm, MPa, "
+           "GPa or deg/m; mesh size and join tolerance bare are in the drawing's unit.")
+
+
 def build_parser() -> argparse.ArgumentParser:
-    common = argparse.ArgumentParser(add_help=False)
-    common.add_argument("--debug", action="store_true", help="show tracebacks and debug log")
     parser = _Parser(
         prog="soapfilm",
         description="Torsion constant, peak shear and shaft checks for non-circular bar sections.",
-        parents=[common],
+        epilog=_EPILOG,
     )
-    from .. import __version__
+    parser.add_argument("--debug", action="store_true", help="show tracebacks and debug log")
+    from ..defaults import VERSION
 
-    parser.add_argument("--version", action="version", version=f"soapfilm {__version__}")
+    parser.add_argument("--version", action="version", version=f"soapfilm {VERSION}")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
+    parser._commands = {}
     for name in SUBCOMMANDS:
         mod = importlib.import_module(f".{name}", __name__)
-        p = sub.add_parser(mod.NAME, help=mod.HELP, description=mod.HELP, parents=[common])
+        p = sub.add_parser(mod.NAME, help=mod.HELP, description=mod.HELP, epilog=_EPILOG)
+        # before or after the command: `soapfilm --debug solve ...` = `soapfilm solve --debug`
+        p.add_argument("--debug", action="store_true", default=argparse.SUPPRESS,
+                       help="show tracebacks and debug log")
         mod.add_args(p)
         p.set_defaults(_run=mod.run)
+        parser._commands[mod.NAME] = p
     return parser
 
 
 def main(argv: list[str] | None = None) -> int:
     """Run the command line; return the exit status."""
     parser = build_parser()
-    args = parser.parse_args(argv)
+    args, extra = parser.parse_known_args(argv)
+    if extra:  # name the command's own help, not the top level's
+        target = parser._commands.get(getattr(args, "command", None), parser)
+        target.error(f"unrecognized arguments: {' '.join(extra)}")
     if not getattr(args, "command", None):
         parser.print_help()
         return 2
@@ -65,6 +79,12 @@ def main(argv: list[str] | None = None) -> int:
     except KeyboardInterrupt:
         print("soapfilm: interrupted", file=sys.stderr)
         return 130
+    except BrokenPipeError:  # `soapfilm ... | head`: the reader left; output files are written
+        import os
+
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+        return 0
     except MemoryError:
         if args.debug:
             raise

@@ -10,7 +10,30 @@ from pathlib import Path
 
 from ..errors import InputError
 
-__all__ = ["write_atomic", "write_json", "check_writable", "console", "progress"]
+__all__ = ["write_atomic", "write_json", "check_writable", "check_outputs_apart", "same_file",
+           "json_text",
+           "console", "progress"]
+
+
+def same_file(path) -> str:
+    """A key equal for two paths that name the same file."""
+    return os.path.normcase(os.path.realpath(path))
+
+
+def check_outputs_apart(inputs, outputs) -> None:
+    """No output may be an input or another output: ``outputs`` is [(option, path)]."""
+    taken = {same_file(p): "the input file" for p in inputs if p}
+    for option, path in outputs:
+        if not path or path == "-":
+            continue
+        key = same_file(path)
+        if key in taken:
+            what = taken[key]
+            raise InputError(f"would overwrite {what}" if what == "the input file"
+                             else f"is also given to {what}", where=f"{option} {path}",
+                             fix="choose another output name" if what == "the input file"
+                             else "give each output its own file name")
+        taken[key] = option
 
 
 def check_writable(path: str | os.PathLike, option: str) -> Path:
@@ -49,9 +72,14 @@ def write_atomic(path: str | os.PathLike, data: str | bytes) -> None:
         raise
 
 
+def json_text(obj) -> str:
+    """The JSON text soapfilm writes (indented, no NaN or infinity)."""
+    return json.dumps(obj, indent=1, allow_nan=False) + "\n"
+
+
 def write_json(target: str, obj) -> None:
     """Write JSON to a file atomically, or to stdout for ``-``."""
-    text = json.dumps(obj, indent=1, allow_nan=False) + "\n"
+    text = json_text(obj)
     if target == "-":
         sys.stdout.write(text)
     else:

@@ -11,12 +11,11 @@ leaves a partial file).
 from __future__ import annotations
 
 import argparse
-import os
 from pathlib import Path
 
 from ..errors import InputError
 from ..stress_units import STRESS_UNITS, shear_scale
-from ._io import check_writable, write_atomic
+from ._io import check_writable, same_file, write_atomic
 
 __all__ = ["add_output_args", "check_outputs", "write_outputs", "torque_line"]
 
@@ -34,23 +33,13 @@ def add_output_args(p: argparse.ArgumentParser) -> None:
     g.add_argument("--plot-warping", metavar="OUT", help="warping (axial displacement) map")
     g.add_argument("--plot-3d", metavar="OUT", help="3D view of the stress-function surface")
     g.add_argument("--torque", metavar="T",
-                   help="torque with its unit, e.g. '320 N*m' or '2800 lbf*in' (a bare number "
-                        "is N*m): pictures, report and mesh file then show stresses")
-    g.add_argument("--stress-unit", default="MPa", choices=list(STRESS_UNITS),
+                   help="torque, e.g. '320 N*m' or '2800 lbf*in' (a bare number is N*m): the "
+                        "table, pictures, report and mesh file then show stresses")
+    g.add_argument("--stress-unit", choices=list(STRESS_UNITS),
                    help="stress unit used with --torque (default MPa)")
     g.add_argument("--report", metavar="OUT.html", help="self-contained HTML report")
     g.add_argument("--mesh-out", metavar="OUT",
                    help="mesh with phi, omega and shear for ParaView (.vtu, .vtk, .msh, ...)")
-
-
-def _torque_nm(text: str) -> float:
-    """'320 N*m', '2800 lbf*in' -> N*m; a bare number is taken as N*m."""
-    try:
-        return float(text)
-    except ValueError:
-        from ..units import parse_quantity
-
-        return parse_quantity(text, "torque", "--torque")
 
 
 def check_outputs(args) -> None:
@@ -58,15 +47,22 @@ def check_outputs(args) -> None:
     from ..export import mesh_format
     from ..plots import figure_format
 
+    if args.stress_unit is not None and args.torque is None:
+        raise InputError("a stress unit needs a torque", where="--stress-unit",
+                         fix="add --torque T, e.g. --torque '320 N*m', or drop --stress-unit")
+    if args.stress_unit is None:
+        args.stress_unit = "MPa"
     if args.torque is not None and not isinstance(args.torque, float):
-        args.torque = _torque_nm(args.torque)
+        from ..units import parse_quantity
+
+        args.torque = parse_quantity(args.torque, "torque", "--torque")
     if args.torque is not None:
         shear_scale("mm", args.torque, args.stress_unit)  # validates the numbers
     seen: dict[str, str] = {}
     json_out = getattr(args, "json", None)
     if json_out and json_out != "-":
-        seen[_same_file_key(json_out)] = "--json"
-    src = _same_file_key(args.input)
+        seen[same_file(json_out)] = "--json"
+    src = same_file(args.input)
     for option, dest in _FILE_OPTIONS:
         out = getattr(args, dest, None)
         if not out:
@@ -83,7 +79,7 @@ def check_outputs(args) -> None:
             except InputError as exc:
                 raise InputError(exc.what, where=f"{option} {out}", fix=exc.fix) from None
         check_writable(out, option)
-        key = _same_file_key(out)
+        key = same_file(out)
         if key == src:
             raise InputError("would overwrite the input file", where=f"{option} {out}",
                              fix="choose another output name")
@@ -96,10 +92,6 @@ def check_outputs(args) -> None:
                          fix="add --plot shear.png, or drop --plot-mesh")
 
 
-def _same_file_key(path) -> str:
-    return os.path.normcase(os.path.realpath(path))
-
-
 def torque_line(result, args) -> str | None:
     """One line with the peak stress at the given torque, or None."""
     if args.torque is None:
@@ -109,11 +101,16 @@ def torque_line(result, args) -> str | None:
             f"{result.max_shear_per_torque * s.factor:.4g} {args.stress_unit}")
 
 
-def write_outputs(args, result, inputs: dict | None = None) -> list[Path]:
-    """Render and write the outputs asked for; return the paths written."""
+def write_outputs(args, result, inputs: dict | None = None,
+                  extra: list[tuple[str, bytes | str]] = ()) -> list[Path]:
+    """Render the outputs asked for, then write them; return the paths written.
+
+    ``extra`` are more (path, content) pairs already rendered (the JSON):
+    everything is rendered before the first file is written.
+    """
     from .. import plots
 
-    pending: list[tuple[str, bytes | str]] = []
+    pending: list[tuple[str, bytes | str]] = list(extra)
     torque, unit = args.torque, args.stress_unit
     if args.plot:
         ax = plots.plot_shear(result, torque=torque, stress_unit=unit, show_mesh=args.plot_mesh)

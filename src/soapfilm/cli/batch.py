@@ -13,10 +13,10 @@ import os
 import sys
 from pathlib import Path
 
+from ..defaults import CAUTION
 from ..errors import InputError
-from ..profile import LENGTH_UNITS
-from ..result import CAUTION
-from ._io import check_writable, console, write_atomic, write_json
+from ._inputs import add_input_args, input_options
+from ._io import check_outputs_apart, check_writable, console, write_atomic, write_json
 
 NAME = "batch"
 HELP = "analyse many section files in parallel and tabulate them (CSV, JSON)"
@@ -24,18 +24,15 @@ HELP = "analyse many section files in parallel and tabulate them (CSV, JSON)"
 
 def add_args(p: argparse.ArgumentParser) -> None:
     p.add_argument("inputs", metavar="INPUT", nargs="+",
-                   help="section files (point lists .txt/.csv/.dat, shape files .toml, DXF .dxf)")
-    p.add_argument("--units", choices=sorted(LENGTH_UNITS),
-                   help="length unit of inputs without their own (default mm), and of the "
-                        "results (default: the first section's unit; others are converted)")
+                   help="section files (point lists .txt/.csv/.dat, shape files .toml, DXF "
+                        ".dxf); the results are in --units, else the "
+                        "first section's unit (others are converted)")
     add_run_args(p)
 
 
 # --- shared with 'soapfilm sweep' ---------------------------------------------
 def add_run_args(p: argparse.ArgumentParser) -> None:
-    """Output, parallel and accuracy options of ``batch`` and ``sweep``."""
-    from .solve import add_accuracy_args
-
+    """Output, parallel and section-input options of ``batch`` and ``sweep``."""
     p.add_argument("--csv", metavar="OUT", help="write the rows as CSV to OUT")
     p.add_argument("--json", metavar="OUT", help="write the rows as JSON to OUT ('-' = stdout)")
     p.add_argument("--quiet", action="store_true", help="no terminal table or progress")
@@ -46,25 +43,14 @@ def add_run_args(p: argparse.ArgumentParser) -> None:
     g.add_argument("--scheduler", metavar="ADDRESS",
                    help="run on a Dask cluster: its scheduler address (tcp://host:8786), or "
                         "'local' for a Dask cluster on this machine (needs soapfilm[cluster])")
-    p.add_argument("--mesh-size", type=float, metavar="H",
-                   help="element edge length in each input's unit (default: the shape file's "
-                        "[mesh] size, else from the section)")
-    add_accuracy_args(p)
+    add_input_args(p, what="each section file")
 
 
 def check_run_args(args) -> None:
     """Fail on bad options and unwritable outputs before any work."""
     if args.jobs is not None and args.jobs < 1:
         raise InputError(f"must be at least 1, got {args.jobs}", where="--jobs")
-    if args.mesh_size is not None and not args.mesh_size > 0:
-        raise InputError(f"must be a positive length, got {args.mesh_size}", where="--mesh-size")
-    if args.tol is not None and not 0 < args.tol < 1:
-        raise InputError(f"must be a relative accuracy between 0 and 1, got {args.tol}",
-                         where="--tol", fix="give e.g. --tol 1e-3")
-    if args.peak_tol is not None and not 0 < args.peak_tol < 1:
-        raise InputError(f"must be between 0 and 1, got {args.peak_tol}", where="--peak-tol")
-    if args.max_elements is not None and args.max_elements < 1:
-        raise InputError(f"must be at least 1, got {args.max_elements}", where="--max-elements")
+    args.section_options = input_options(args)  # validates the shared options
     if args.csv:
         if args.csv == "-":
             raise InputError("CSV goes to a file", where="--csv -", fix="give a file name")
@@ -81,9 +67,11 @@ def check_run_args(args) -> None:
 
 def job_options(args) -> dict:
     """Options of every job, from the command line (None = the shape file's or default)."""
-    opts = {"units": args.units, "mesh_size": args.mesh_size, "order": args.order,
-            "tol": "auto" if args.tol is None else args.tol, "peak_tol": args.peak_tol,
-            "max_elements": args.max_elements}
+    o = args.section_options
+    opts = {"units": o.units, "mesh_size": o.mesh_size, "order": o.order,
+            "tol": "auto" if o.tol is None else o.tol, "peak_tol": o.peak_tol,
+            "max_elements": o.max_elements, "layers": o.layers,
+            "join_tolerance": o.join_tolerance}
     return {k: v for k, v in opts.items() if v is not None}
 
 
@@ -168,14 +156,15 @@ def finish(args, rows: list[dict], title: str, unit: str | None = None, input_un
     if args.csv:
         write_atomic(args.csv, csv_text(rows, unit, input_units))
     if args.json:
-        write_json(args.json, document(rows, unit, **extra))
+        write_json(args.json, document(rows, unit, input_units=input_units, **extra))
     failed = [r for r in rows if r.get("error")]
     if con:
         con.print(f"[dim]Caution: {CAUTION}[/]")
     if failed:
         first = failed[0]
-        print(f"soapfilm: {len(failed)} of {len(rows)} sections failed (first: {first['label']}); "
-              "the table and output files give each error", file=sys.stderr)
+        print(f"soapfilm: {len(failed)} of {len(rows)} sections failed; the table and output "
+              f"files give each error; the first, {first['label']}: {first['error']}",
+              file=sys.stderr)
         return 1
     return 0
 # --- end shared ----------------------------------------------------------------
@@ -186,6 +175,7 @@ def run(args) -> int:
     from ..readers import READERS
 
     check_run_args(args)
+    check_outputs_apart(args.inputs, [("--csv", args.csv), ("--json", args.json)])
     for name in args.inputs:
         path = Path(name)
         if not path.exists():

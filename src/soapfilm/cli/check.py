@@ -4,13 +4,13 @@ from __future__ import annotations
 
 import argparse
 
+from ..defaults import CAUTION
 from ..errors import InputError
 from ..materials import CRITERIA, Allowable, Material, criterion_key, material
-from ..profile import LENGTH_UNITS
-from ..result import CAUTION
 from ..shaft import DEFAULT_TWIST_LIMIT, TWIST_LIMIT_NOTE, Section, SectionCheck, check_section
 from ..units import UnitSystem, parse_number, parse_positive, parse_quantity, unit_system
-from ._io import check_writable, console, write_atomic, write_json
+from ._inputs import add_input_args, input_options
+from ._io import check_outputs_apart, check_writable, console, write_atomic, write_json
 
 NAME = "check"
 HELP = "check a bar section under a torque: peak shear, twist, stiffness, pass or fail"
@@ -125,14 +125,12 @@ def add_args(p: argparse.ArgumentParser) -> None:
     p.add_argument("--nominal-diameter", metavar="D",
                    help='diameter for Kts = tau_max / (16 T / (pi D^3)), e.g. "40 mm"')
     add_allowable_args(p)
-    p.add_argument("--units", choices=sorted(LENGTH_UNITS),
-                   help="length unit of the section file when it does not say (default mm)")
-    p.add_argument("--mesh-size", metavar="H", help='element size with unit, e.g. "0.3 mm"')
     p.add_argument("--report", metavar="OUT.html",
                    help="self-contained HTML report: the section's results and this check")
     p.add_argument("--json", metavar="OUT", help="write results as JSON (SI base units) to OUT "
                    "('-' = stdout)")
     p.add_argument("--quiet", action="store_true", help="no terminal output")
+    add_input_args(p)
 
 
 def resolve_material(args) -> Material:
@@ -241,11 +239,11 @@ def run(args) -> int:
             raise InputError("the report is an HTML file", where=f"--report {args.report}",
                              fix="end the file name in .html")
         check_writable(args.report, "--report")
+    check_outputs_apart([args.section], [("--json", args.json), ("--report", args.report)])
     sys_ = system_of(args)
     torque = parse_quantity(args.torque, "torque", "--torque")
     length = parse_positive(args.length, "length", "--length")
     nominal = parse_positive(args.nominal_diameter, "length", "--nominal-diameter")
-    mesh_size = parse_positive(args.mesh_size, "length", "--mesh-size")
     mat = resolve_material(args)
     opts = parse_allowable_args(args)
     from ..shaftfile import SectionSource, resolve_allowable
@@ -258,8 +256,8 @@ def run(args) -> int:
     twist_note = "given with --twist-limit" if opts["twist_limit"] is not None \
         else TWIST_LIMIT_NOTE
 
-    source = SectionSource(mesh_size=mesh_size)
-    section, fe_result = source.from_file(args.section, args.units, "SECTION",
+    source = SectionSource(options=input_options(args))
+    section, fe_result = source.from_file(args.section, None, "SECTION",
                                           nominal_diameter=nominal)
     res = check_section(section, torque, length, mat.shear_modulus, allowable, twist_limit,
                         nominal)

@@ -4,11 +4,12 @@ from __future__ import annotations
 
 import argparse
 
+from ..defaults import CAUTION
 from ..errors import InputError
-from ..result import CAUTION
 from ..shaft import ShaftResult, analyse_shaft
 from ..units import UnitSystem, parse_positive
-from ._io import check_writable, console, write_atomic, write_json
+from ._inputs import add_input_args, input_options
+from ._io import check_outputs_apart, check_writable, console, write_atomic, write_json
 from .check import (
     add_allowable_args,
     allowable_json,
@@ -28,13 +29,12 @@ def add_args(p: argparse.ArgumentParser) -> None:
     p.add_argument("--shear-modulus", metavar="G",
                    help='shear modulus for every segment, e.g. "79.3 GPa"')
     add_allowable_args(p)
-    p.add_argument("--mesh-size", metavar="H",
-                   help='element size for section files, with unit, e.g. "0.3 mm"')
     p.add_argument("--json", metavar="OUT", help="write results as JSON (SI base units) to OUT "
                    "('-' = stdout)")
     p.add_argument("--plot", metavar="OUT.png",
                    help="draw the internal-torque diagram and the twist along the axis")
     p.add_argument("--quiet", action="store_true", help="no terminal output")
+    add_input_args(p, what="the section files")
 
 
 def shaft_json(res: ShaftResult) -> dict:
@@ -184,14 +184,14 @@ def run(args) -> int:
     if args.plot and not args.plot.lower().endswith(".png"):
         raise InputError("the plot is written as PNG", where=f"--plot {args.plot}",
                          fix="give a file name ending in .png")
+    check_outputs_apart([args.file], [("--json", args.json), ("--plot", args.plot)])
     sys_ = system_of(args)
     from ..shaftfile import CheckOptions, SectionSource, read_shaft
 
     opts = parse_allowable_args(args)
     g = parse_positive(args.shear_modulus, "modulus", "--shear-modulus")
-    mesh_size = parse_positive(args.mesh_size, "length", "--mesh-size")
     options = CheckOptions(shear_modulus=g, material=args.material, **opts)
-    model = read_shaft(args.file, options, SectionSource(mesh_size=mesh_size))
+    model = read_shaft(args.file, options, SectionSource(options=input_options(args)))
     try:
         res = analyse_shaft(model)
     except InputError as exc:

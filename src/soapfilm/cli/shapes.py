@@ -4,11 +4,7 @@ from __future__ import annotations
 
 import argparse
 
-from rich.markup import escape
-
 from ..errors import InputError
-from ..readers.shapefile import MESH_KEYS, PART_KEYS, SOLVE_KEYS, SPECIAL_KINDS, TOP_KEYS
-from ..shapes.registry import KINDS, Kind, suggest
 from ._io import console
 
 NAME = "shapes"
@@ -34,7 +30,7 @@ def _value(v) -> str:
     return f'"{v}"' if isinstance(v, str) else f"{v:g}" if isinstance(v, float) else str(v)
 
 
-def example_toml(kind: Kind) -> str:
+def example_toml(kind) -> str:
     """A minimal shape file for ``kind``."""
     lines = [f'title = "example {kind.name}"', 'units = "mm"', "", "[section]",
              f'kind = "{kind.name}"']
@@ -43,7 +39,11 @@ def example_toml(kind: Kind) -> str:
 
 
 def _list(con) -> None:
+    from rich.markup import escape
     from rich.table import Table
+
+    from ..readers.shapefile import MESH_KEYS, PART_KEYS, SOLVE_KEYS, TOP_KEYS
+    from ..shapes.registry import KINDS
 
     table = Table(title="Section kinds for shape files", header_style="bold")
     table.add_column("kind")
@@ -72,7 +72,11 @@ def _list(con) -> None:
 
 
 def _show(con, name: str) -> None:
+    from rich.markup import escape
     from rich.table import Table
+
+    from ..readers.shapefile import SPECIAL_KINDS
+    from ..shapes.registry import KINDS
 
     if name in SPECIAL_KINDS:
         con.print(f"[bold]{name}[/]: {_SPECIAL_HELP[name]}")
@@ -97,6 +101,9 @@ def _show(con, name: str) -> None:
 
 
 def run(args) -> int:
+    from ..readers.shapefile import SPECIAL_KINDS
+    from ..shapes.registry import KINDS, suggest
+
     name = args.kind
     if name is not None and name not in KINDS and name not in SPECIAL_KINDS:
         raise InputError(f"unknown shape kind {name!r}", where="soapfilm shapes",

@@ -5,8 +5,8 @@ from __future__ import annotations
 import argparse
 
 from ..errors import InputError
-from ..profile import LENGTH_UNITS
-from ._io import check_writable
+from ._inputs import add_input_args, input_options
+from ._io import check_outputs_apart, check_writable
 
 NAME = "show"
 HELP = "draw a section (optionally with its mesh) to a picture, to check the input"
@@ -17,39 +17,50 @@ def add_args(p: argparse.ArgumentParser) -> None:
     p.add_argument("--png", "-o", "--out", dest="out", metavar="OUT", required=True,
                    help="picture to write; the format follows the suffix (.png, .svg, .pdf)")
     p.add_argument("--mesh", action="store_true",
-                   help="draw the mesh too (a mesh file's own mesh, else the one solve would make)")
-    p.add_argument("--units", choices=sorted(LENGTH_UNITS),
-                   help="length unit of the input when the file does not say (default mm)")
-    p.add_argument("--mesh-size", type=float, metavar="H",
-                   help="element edge length for --mesh, in the input unit (implies --mesh)")
+                   help="draw the mesh too: a mesh file's own mesh; else the starting mesh of "
+                        "solve (--mesh-size sets it), or with --tol the mesh the adaptive "
+                        "solve ends on")
     p.add_argument("--quiet", action="store_true", help="do not print the file written")
+    add_input_args(p)
 
 
 def run(args) -> int:
-    from ..mesh import mesh_profile
+    opts = input_options(args)
     from ..plots import draw_section, figure_format, save_figure
-    from ..readers import read_section
-    from ..readers.meshfile import is_mesh_file, read_mesh_file
 
-    if args.mesh_size is not None and not args.mesh_size > 0:
-        raise InputError(f"must be a positive length, got {args.mesh_size}", where="--mesh-size")
     try:
         figure_format(args.out)
     except InputError as exc:
         raise InputError(exc.what, where=f"--png {args.out}", fix=exc.fix) from None
     check_writable(args.out, "--png")
+    check_outputs_apart([args.input], [("--png", args.out)])
+    from ..readers.meshfile import is_mesh_file
+
     mesh = None
     if is_mesh_file(args.input):
-        if args.mesh_size is not None:
-            raise InputError("does not apply to a mesh file, which is drawn as given",
-                             where="--mesh-size", fix="drop --mesh-size")
-        profile, file_mesh = read_mesh_file(args.input, args.units)
+        from ..intake import solve_input
+        from ..readers.meshfile import read_mesh_file
+
+        if args.tol is not None or opts.mesh_size is not None:
+            solve_input(args.input, opts)  # refuses --mesh-size and friends with the reason
+        profile, file_mesh = read_mesh_file(args.input, opts.units)
         mesh = file_mesh if args.mesh else None
     else:
-        profile = read_section(args.input, args.units)
-        if args.mesh or args.mesh_size is not None:
-            mesh = mesh_profile(profile, args.mesh_size)
+        from ..intake import analyse_options, read_input
+
+        profile, settings = read_input(args.input, opts)
+        if args.tol is not None:
+            from ..solve import analyse
+
+            mesh = analyse(profile, **analyse_options(profile, settings, opts)).mesh
+        elif args.mesh or opts.mesh_size is not None:
+            from ..mesh import mesh_profile
+
+            kw = analyse_options(profile, settings, opts)
+            mesh = mesh_profile(profile, kw["mesh_size"])
     path = save_figure(draw_section(profile, mesh=mesh), args.out)
     if not args.quiet:
+        for note in profile.notes:
+            print(f"warning: {note}")
         print(f"wrote {path}")
     return 0

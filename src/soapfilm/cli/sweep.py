@@ -12,7 +12,7 @@ from __future__ import annotations
 
 import argparse
 
-from ..profile import LENGTH_UNITS
+from ._io import check_outputs_apart
 from .batch import add_run_args, check_run_args, execute, finish, job_options
 
 NAME = "sweep"
@@ -24,8 +24,6 @@ def add_args(p: argparse.ArgumentParser) -> None:
     p.add_argument("--vary", action="append", required=True, metavar="KEY=VALUES",
                    help="key and its values: a,b,c or start:stop:count "
                         "(e.g. height=6:20:8, part2.diameter=30,35,40); repeat for more keys")
-    p.add_argument("--units", choices=sorted(LENGTH_UNITS),
-                   help="length unit if the shape file has none (default mm)")
     add_run_args(p)
 
 
@@ -33,6 +31,7 @@ def run(args) -> int:
     from ..batch import parse_vary, plan_sweep
 
     check_run_args(args)
+    check_outputs_apart([args.shape_file], [("--csv", args.csv), ("--json", args.json)])
     vary = [parse_vary(spec) for spec in args.vary]
     plan = plan_sweep(args.shape_file, vary, args.units)
     jobs = plan.jobs(job_options(args))

@@ -7,7 +7,7 @@ pieces into closed loops by matching their end points, and builds a
 :class:`~soapfilm.profile.Profile`: the loop that encloses all the others is
 the outside, the loops directly inside it are holes.  Everything else in the
 drawing (TEXT, MTEXT, DIMENSION, HATCH, POINT ...) is not section
-geometry: it is skipped with a logged warning.  Block references (INSERT) are
+geometry: it is skipped with a note among the result's warnings.  Block references (INSERT) are
 expanded into their transformed entities (nested blocks too); an entity on
 layer 0 inside a block takes the layer of its INSERT, as CAD programs draw it,
 and is named in messages by the INSERT's handle and its place in the block
@@ -65,13 +65,14 @@ The length unit is, in this order: the ``units`` argument when the caller
 gives one (on the command line ``--units``); else the drawing's ``$INSUNITS``
 header when it is set (inches, feet, mm, cm, m; other lengths such as
 microns or decimetres are converted to the nearest of these); else mm.  An
-explicit ``units`` that disagrees with the header wins, with a logged
-warning, because headers are often left at a template's default while the
+explicit ``units`` that disagrees with the header wins, with a
+note among the result's warnings, because headers are often left at a template's default while the
 drawing was made in another unit; the user who typed a unit has looked.
 """
 
 from __future__ import annotations
 
+import dataclasses
 import logging
 import math
 from collections import Counter, defaultdict
@@ -90,7 +91,9 @@ from ..geometry.curves import Circle, Curve, Ellipse
 from ..geometry.edges import _intersection
 from ..geometry.spline import SplineCurve, monotone_pieces
 from ..profile import LENGTH_UNITS, Profile
+from ..units import DrawingLength, parse_drawing_length
 from . import register
+from ._names import option_hint
 
 __all__ = ["read_dxf", "DXF_UNITS", "DEFAULT_CHORD_TOLERANCE", "DEFAULT_JOIN_TOLERANCE"]
 
@@ -475,11 +478,6 @@ def _choose_units(doc, units: str | None, where: str) -> tuple[str, float, str]:
         if units not in LENGTH_UNITS:
             raise InputError(f"unknown length unit {units!r}", where="--units",
                              fix=f"use one of {', '.join(LENGTH_UNITS)}")
-        if code in DXF_UNITS:
-            hname, hunit, hfac = DXF_UNITS[code]
-            if hunit != units or hfac != 1.0:
-                log.warning("%s: the drawing's unit header says %s but %s was given; using %s",
-                            where, hname, units, units)
         return units, 1.0, units
     if code == 0:
         return "mm", 1.0, "mm"
@@ -487,7 +485,8 @@ def _choose_units(doc, units: str | None, where: str) -> tuple[str, float, str]:
         raise InputError(
             f"the drawing's unit header $INSUNITS = {code} is not a length this tool handles",
             where=where,
-            fix=f"give the unit of the numbers with --units ({', '.join(LENGTH_UNITS)})",
+            fix=f"give the unit of the numbers with {option_hint('units', 'UNIT')} "
+                f"({', '.join(LENGTH_UNITS)})",
         )
     name, unit, factor = DXF_UNITS[code]
     return unit, factor, unit if factor == 1.0 else name
@@ -646,8 +645,8 @@ def _check_nodes(pieces: list[_Piece], ends: _Ends, size: float, jtol: float, wi
         free_piece[n] = (k, e)
     layer_fix = ""
     if len(layers_present) > 1:
-        layer_fix = ("; or pick the section's layers with --layer (layers: "
-                     f"{', '.join(layers_present)})")
+        layer_fix = (f"; or pick the section's layers with {option_hint('layers', 'NAME')} "
+                     f"(layers: {', '.join(layers_present)})")
 
     # branches: three or more ends at one point
     for n in np.flatnonzero(degree >= 3):
@@ -708,7 +707,7 @@ def _check_nodes(pieces: list[_Piece], ends: _Ends, size: float, jtol: float, wi
             f"and {same} at {_pt(fpos[j])}{more}; ends are joined within {_fmt(jtol)} {unit}",
             where=where,
             fix=f"close the gap in the drawing, or raise the join tolerance: "
-                f"--join-tolerance {_fmt(_above(g))}",
+                f"{option_hint('join_tolerance', _fmt(_above(g)))}",
         )
     # no near partner: an open chain or a lone entity
     n0 = free[0]
@@ -820,7 +819,7 @@ def read_dxf(
         The drawing.
     units : str, optional
         Length unit of the drawing's numbers; overrides the ``$INSUNITS``
-        header (with a logged warning when they disagree).  Default: the
+        header (with a note on the result when they disagree).  Default: the
         header, else mm.
     layers : str or sequence of str, optional
         Read only entities on these layers (case-insensitive).  Default: all.
@@ -829,8 +828,9 @@ def read_dxf(
         drawing units.  Default ``1e-5`` times the drawing size.  The curves
         themselves go to the solver, so this does not set the error of J
         (module docstring).
-    join_tolerance : float, optional
-        End points closer than this (drawing units) are joined.  Default
+    join_tolerance : float, str or DrawingLength, optional
+        End points closer than this are joined: a number in the drawing's
+        own unit, or a length with its unit (``"0.01 mm"``).  Default
         ``1e-5`` times the drawing size.
 
     Returns
@@ -863,28 +863,39 @@ def read_dxf(
     where = str(path)
     if isinstance(layers, str):
         layers = [layers]
-    for name, value in (("chord_tolerance", chord_tolerance), ("join_tolerance", join_tolerance)):
-        if value is not None and not (math.isfinite(value) and value > 0):
-            raise InputError(f"{name} must be a positive length, got {value}",
-                             where="--join-tolerance" if name == "join_tolerance" else name)
+    if chord_tolerance is not None and not (math.isfinite(chord_tolerance)
+                                            and chord_tolerance > 0):
+        raise InputError(f"chord tolerance must be a positive length, got {chord_tolerance}",
+                         where=where)
+    if join_tolerance is not None and not isinstance(join_tolerance, DrawingLength):
+        join_tolerance = parse_drawing_length(join_tolerance, option_hint("join_tolerance", "").strip())
     doc = _load(path)
     unit, factor, ulabel = _choose_units(doc, units, where)
+    notes: list[str] = []
+    if units is not None and int(doc.header.get("$INSUNITS", 0) or 0) in DXF_UNITS:
+        hname, hunit, hfac = DXF_UNITS[int(doc.header.get("$INSUNITS", 0) or 0)]
+        if hunit != units or hfac != 1.0:
+            notes.append(f"{where}: the drawing's unit header says {hname} but {units} was "
+                         f"given; read as {units}")
+    jtol_given = None
+    if join_tolerance is not None:  # in the drawing's own numbers
+        jtol_given = join_tolerance.in_unit(unit, LENGTH_UNITS[unit] * factor)
     entities, skipped, present = _select(doc, layers, where)
     on = f" on layer(s) {', '.join(layers)}" if layers else ""
     if skipped:
         what = ", ".join(f"{n} {t}" for t, n in sorted(skipped.items()))
         note = f" (block references nested deeper than {_MAX_BLOCK_DEPTH} are not expanded)" \
             if "INSERT" in skipped else ""
-        log.warning("%s: ignored entities that are not section geometry%s: %s%s",
-                    where, on, what, note)
+        notes.append(f"{where}: ignored entities that are not section geometry{on}: "
+                     f"{what}{note}")
 
     # first pass, coarse, for the drawing size
     rough, kept = [], []
     for e in entities:
         parts = _flatten(e, math.inf, where)
         if parts is None:
-            log.warning("%s: ignored %s #%s (a mesh, not an outline)", where, e.dxftype(),
-                        e.dxf.handle)
+            notes.append(f"{where}: ignored {e.dxftype()} #{e.dxf.handle} (a mesh, not an "
+                         "outline)")
             continue
         rough.extend(part.xy for part in parts)
         kept.append(e)
@@ -901,15 +912,15 @@ def read_dxf(
     if not size > 0 or not np.isfinite(size):
         raise InputError("the geometry has no extent (all points coincide)", where=where)
     chord = chord_tolerance or DEFAULT_CHORD_TOLERANCE * size
-    jtol = join_tolerance or DEFAULT_JOIN_TOLERANCE * size
+    jtol = jtol_given or DEFAULT_JOIN_TOLERANCE * size
 
     pieces: list[_Piece] = []
     for e in kept:
         for flat in _flatten(e, chord, where):
             p = _Piece(flat, e.dxftype(), str(e.dxf.handle), str(e.dxf.layer))
             if p.length <= jtol:
-                log.warning("%s: ignored %s at %s, shorter than the join tolerance %s",
-                            where, p.name, _pt(p.xy[0]), _fmt(jtol))
+                notes.append(f"{where}: ignored {p.name} at {_pt(p.xy[0])}, shorter than the "
+                             f"join tolerance {_fmt(jtol)}")
                 continue
             pieces.append(p)
     if not pieces:
@@ -930,9 +941,11 @@ def read_dxf(
         curves = [c.moved(np.eye(2) * factor, (0.0, 0.0)) for c in curves]
     log.info("%s: %d entities in %d loops, unit %s, %d exact curves", where, len(pieces),
              len(loops), unit, len(curves))
-    return Profile.from_loops([loops[k] * factor for k in order], units=unit, name=path.stem,
-                              labels=labels, curves=curves,
-                              edge_curves=[traced[k][1] for k in order])
+    profile = Profile.from_loops([loops[k] * factor for k in order], units=unit,
+                                 name=path.stem, labels=labels, curves=curves,
+                                 edge_curves=[traced[k][1] for k in order])
+    stated = units is not None or int(doc.header.get("$INSUNITS", 0) or 0) != 0
+    return dataclasses.replace(profile, notes=tuple(notes), unit_stated=stated)
 
 
 def _nest(loops: list[np.ndarray], names: list[str], where: str) -> list[int]:
@@ -970,7 +983,7 @@ def _nest(loops: list[np.ndarray], names: list[str], where: str) -> list[int]:
             f"({names[b]}) near {_pt((cb.x, cb.y))}; neither encloses the other",
             where=where,
             fix="a section is one piece: delete or move the other outlines, or pick layers "
-                "with --layer",
+                f"with {option_hint('layers', 'NAME')}",
         )
     for i in range(n):
         if depth[i] >= 2:

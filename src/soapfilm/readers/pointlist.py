@@ -7,6 +7,7 @@ There is no unit inside the file: it comes from ``--units`` (default mm).
 
 from __future__ import annotations
 
+import dataclasses
 import math
 import re
 from pathlib import Path
@@ -69,6 +70,7 @@ def parse_pointlist(text: str, where: str) -> tuple[list[list[tuple[float, float
 @register(".txt", ".csv", ".dat", ".xy")
 def read_pointlist(path: Path, units: str | None = None) -> Profile:
     """Read a point-list file into a validated :class:`Profile`."""
+    stated = units is not None
     units = units or "mm"
     if units not in LENGTH_UNITS:
         raise InputError(f"unknown length unit {units!r}", where="--units",
@@ -82,4 +84,5 @@ def read_pointlist(path: Path, units: str | None = None) -> Profile:
     if not loops:
         raise InputError("no points found (the file is empty or all comments)", where=str(path),
                          fix="write one 'x y' pair per line")
-    return Profile.from_loops(loops, units=units, name=Path(path).stem, labels=labels)
+    profile = Profile.from_loops(loops, units=units, name=Path(path).stem, labels=labels)
+    return profile if stated else dataclasses.replace(profile, unit_stated=False)

@@ -29,6 +29,7 @@ exact curves of its parts (arcs, fillets, flanks), moved with them::
 
 from __future__ import annotations
 
+import dataclasses
 import math
 import tomllib
 from dataclasses import dataclass, field
@@ -40,7 +41,9 @@ from ..errors import InputError
 from ..profile import LENGTH_UNITS, Profile
 from ..shapes.compose import combined, placed
 from ..shapes.registry import KINDS, build, suggest
+from ..units import parse_drawing_length
 from . import read_section, register
+from ._names import options_named
 
 __all__ = ["ShapeFile", "load_shapefile", "shapefile_from_document", "read_shapefile",
            "settings_for", "TOP_KEYS", "PART_KEYS", "MESH_KEYS", "SOLVE_KEYS", "SPECIAL_KINDS"]
@@ -67,7 +70,11 @@ SPECIAL_KINDS = {
     "outline": {"points": "[[x, y], ...] the outside boundary, any orientation",
                 "holes": "[[[x, y], ...], ...] hole boundaries (optional)"},
     "file": {"file": "point list (.txt, .csv) or DXF drawing, relative to this file; "
-                     "a drawing in other units is converted to the shape file's units"},
+                     "a drawing that states its unit is converted to the shape file's units, "
+                     "one that does not is read in them",
+             "layer": "DXF drawings: read only this layer, or a list of layers (default all)",
+             "join_tolerance": "DXF drawings: join entity ends closer than this, in the "
+                               "shape file's unit (default 1e-5 of the drawing size)"},
 }
 MESH_KEYS = {
     "size": "element edge length in the file's unit (default: from the section)",
@@ -197,10 +204,7 @@ def _part(tab, where: str, base: Path, units: str, chord: float | None,
             if not target.exists():
                 raise InputError(f"file {ref!r} not found (looked in {target.parent})",
                                  where=where, fix="paths are relative to the shape file")
-            prof = read_section(target, units)
-            if prof.units != units:  # e.g. a DXF drawing with its own unit header
-                factor = LENGTH_UNITS[prof.units] / LENGTH_UNITS[units]
-                prof = prof.scaled(factor).with_units(units)
+            prof = _read_file_part(target, dims, units, where)
     else:
         if not isinstance(kind, str) or kind not in KINDS:
             choices = list(KINDS) + list(SPECIAL_KINDS)
@@ -221,6 +225,49 @@ def _part(tab, where: str, base: Path, units: str, chord: float | None,
         raise InputError(f"position must be [x, y], got {pos!r}", where=where,
                          fix="write e.g. position = [0, 12.5]")
     return placed(prof, float(pos[0]), float(pos[1]), float(rot))
+
+
+def _read_file_part(target: Path, dims: dict, units: str, where: str) -> Profile:
+    """A point list or drawing referenced by a ``kind = "file"`` part, in ``units``."""
+    layers = dims.get("layer")
+    if layers is not None:
+        if isinstance(layers, str):
+            layers = [layers]
+        if not (isinstance(layers, list) and layers
+                and all(isinstance(x, str) and x for x in layers)):
+            raise InputError(f"layer must be a layer name or a list of names, got "
+                             f"{dims['layer']!r}", where=where, fix='write layer = "OUTLINE"')
+    jt = dims.get("join_tolerance")
+    if jt is not None:
+        if isinstance(jt, bool) or not isinstance(jt, (int, float, str)):
+            raise InputError(f"join_tolerance must be a length, got {jt!r}", where=where,
+                             fix="write e.g. join_tolerance = 0.01")
+        if isinstance(jt, (int, float)):  # a bare number is in the shape file's unit
+            jt = f"{jt!r} {units}"
+        jt = parse_drawing_length(jt, f"{where} join_tolerance")
+    options = {"layers": layers, "join_tolerance": jt}
+    if target.suffix.lower() != ".dxf":
+        for key, name in (("layers", "layer"), ("join_tolerance", "join_tolerance")):
+            if options[key] is not None:
+                raise InputError(f"{name} applies to DXF drawings only, not to "
+                                 f"{target.suffix or 'these'} files", where=where,
+                                 fix=f"drop {name}")
+        prof = read_section(target, units)
+        if prof.units != units:  # a reader that knows its own unit: converted
+            factor = LENGTH_UNITS[prof.units] / LENGTH_UNITS[units]
+            prof = prof.scaled(factor).with_units(units)
+        return prof
+    hints = {"layers": f'layer = "{{}}" in {where}',
+             "join_tolerance": f"join_tolerance = {{}} (in {units}) in {where}",
+             "units": 'units = "{}" at the top of the shape file'}
+    with options_named(hints):
+        prof = read_section(target, None, **options)
+    if not prof.unit_stated:  # the drawing does not say: its numbers are the shape file's
+        return prof.with_units(units)
+    if prof.units != units:  # a drawing with its own unit header: converted
+        factor = LENGTH_UNITS[prof.units] / LENGTH_UNITS[units]
+        prof = prof.scaled(factor).with_units(units)
+    return prof
 
 
 def load_shapefile(path, units: str | None = None) -> ShapeFile:
@@ -305,8 +352,12 @@ def shapefile_from_document(doc: dict, path, units: str | None = None) -> ShapeF
         except InputError as exc:
             raise InputError(f"the combined parts: {exc.what}", where=where, fix=exc.fix) from None
     name = title or path.stem
-    return ShapeFile(profile=Profile.from_loops(prof.loops, units=u, name=name, curves=prof.curves,
-                                                edge_curves=prof.edge_curves),
+    notes = tuple(prof.notes) if has_section else tuple(n for part in used for n in part.notes)
+    final = Profile.from_loops(prof.loops, units=u, name=name, curves=prof.curves,
+                               edge_curves=prof.edge_curves)
+    final = dataclasses.replace(final, notes=notes,
+                                unit_stated=file_units is not None or units is not None)
+    return ShapeFile(profile=final,
                      title=title, settings=settings, path=path)
 
 

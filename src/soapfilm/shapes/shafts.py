@@ -131,8 +131,9 @@ def keyed_shaft(diameter: float, key_width: float | None = None,
                          "from the DIN 6885-1 table")
     if key_width is None:
         if units != "mm":
-            raise InputError(f"the parallel-key table is in mm but the shape file is in {units}",
-                             where="key_width", fix="give key_width and key_depth yourself")
+            raise InputError(f"the DIN 6885-1 key table is for shafts in mm, but this shape "
+                             f"file has units = \"{units}\"", where="key_width",
+                             fix="give key_width and key_depth yourself, or use mm")
         row = parallel_key(d)
         w, t1 = row.width, row.shaft_depth
         rf = row.r_min if floor_radius is None else nonnegative("floor_radius", floor_radius)

@@ -125,8 +125,9 @@ def straight_spline(splines: int | None = None, minor_diameter: float | None = N
             raise InputError("minor_diameter is needed to look up an ISO 14 size",
                              where="minor_diameter", fix="give the minor diameter d in mm")
         if units != "mm":
-            raise InputError(f"the ISO 14 table is in mm but the shape file is in {units}",
-                             where="series", fix="give the spline dimensions yourself")
+            raise InputError(f"the ISO 14 spline table is in mm, but this shape file has "
+                             f"units = \"{units}\"", where="series",
+                             fix="give the spline dimensions yourself, or use mm")
         row = iso14_spline(series, positive("minor_diameter", minor_diameter))
         for name, given, table in (("splines", splines, row.splines),
                                    ("major_diameter", major_diameter, row.major),
