@@ -163,10 +163,11 @@ def test_cli_solves_a_mesh_file_as_given(tmp_path, capsys):
     r = analyse(prof, mesh_size=1.0)
     path = tmp_path / "tube.vtu"
     meshio.write(path, result_to_meshio(r))
-    out = tmp_path / "r.json"
-    assert main(["solve", str(path), "--json", str(out), "--quiet"]) == 0
+    out, back = tmp_path / "r.json", tmp_path / "back.vtu"
+    assert main(["solve", str(path), "--json", str(out), "--mesh-out", str(back), "--quiet"]) == 0
     data = json.loads(out.read_text())
-    assert data["mesh"]["elements"] == [list(map(int, t)) for t in r.mesh.t.T]
+    assert (data["mesh"]["nodes"], data["mesh"]["elements"]) == (r.mesh.nnodes, r.mesh.nelements)
+    np.testing.assert_array_equal(meshio.read(back).cells[0].data, r.mesh.t.T)  # as given
     assert data["torsion_constant"] == pytest.approx(r.torsion_constant, rel=1e-10, abs=0)
     assert main(["solve", str(path), "--mesh-size", "0.5"]) == 2
     assert "does not apply to a mesh file" in capsys.readouterr().err

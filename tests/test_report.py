@@ -158,6 +158,6 @@ def test_notebook_html_and_json_ready_dict():
     c = _parse(r._repr_html_())
     assert not c.errors and not c.stack
     assert CAUTION in " ".join(c.text)
-    d = r.to_dict(include_mesh=False)
+    d = r.to_dict()
     assert json.loads(json.dumps(d, allow_nan=False)) == d
     assert d["max_shear_per_torque"] == r.max_shear_per_torque
