@@ -232,7 +232,7 @@ def mesh_profile(profile: Profile, size: float | None = None) -> Mesh:
     }
     if hole_pts:
         data["holes"] = np.array(hole_pts)
-    area_text = np.format_float_positional(max_area, precision=17, unique=True, trim="-")
+    area_text = np.format_float_positional(max_area, unique=True, trim="-")  # every digit
     out = tr.triangulate(data, f"pq{MIN_ANGLE:g}a{area_text}Q")
     return _from_triangle(out, table, profile.curves)
 
