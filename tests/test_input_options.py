@@ -99,7 +99,8 @@ def test_dxf_hints_name_options_the_command_has(command, case, tmp_path, capsys)
     assert wanted in named, text
     assert named <= options_of(command), (named, text)
     fix = ["--layer", "OUTLINE"] if case == "stray" else ["--join-tolerance", "0.005"]
-    assert main([*args, *fix]) == 0, capsys.readouterr().err
+    # it runs: 0, or 3 where a check ran and the bar failed it (soapfilm.errors)
+    assert main([*args, *fix]) in (0, 3), capsys.readouterr().err
 
 
 def _square(tmp_path, side=10.0, name="sq.txt"):

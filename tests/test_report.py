@@ -72,8 +72,10 @@ def report_text() -> str:
     r = dataclasses.replace(
         r,
         warnings=("sharp re-entrant corner at (4, 4): the peak there is mesh-dependent",),
-        refinement=({"step": 0, "elements": 900, "J_lo": 1.0, "J_hi": 1.1},
-                    {"step": 1, "elements": 2400, "J_lo": 1.05, "J_hi": 1.06}),
+        refinement=({"step": 0, "elements": 900, "nodes": 500, "j_lo": 1.0, "j_hi": 1.1,
+                     "relative_bracket": 0.095, "max_shear_error": float("inf")},
+                    {"step": 1, "elements": 2400, "nodes": 1300, "j_lo": 1.05, "j_hi": 1.06,
+                     "relative_bracket": 0.0095, "max_shear_error": 0.004}),
     )
     shaft = {"torque": 50.0, "allowable shear": 48.0, "utilisation": 0.22, "passed": True,
              "twist": {"angle per length": 0.001, "limit": 0.0044}}
@@ -106,6 +108,10 @@ def test_report_content(report_text):
     assert f"[{lo:.6g}, {hi:.6g}]" in text
     assert "sharp re-entrant corner" in text
     assert "Refinement history" in text and "2400" in text
+    # labelled columns with units, no raw keys, no 'inf' (step 0 has no error estimate)
+    assert f"J lower bound [{r.units}^4]" in text and "estimated peak error" in text
+    assert "j_lo" not in text and "inf" not in text.replace("information", "")
+    assert "9.50e-02" in text and "4.00e-03" in text
     assert "Shaft check" in text and "utilisation" in text and "angle per length" in text
     assert "box.txt" in text
 

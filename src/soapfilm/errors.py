@@ -6,7 +6,11 @@ it, so that the command-line tool can print it on one line and exit with 2.
 
 from __future__ import annotations
 
-__all__ = ["SoapfilmError", "InputError", "GeometryError", "SolveError"]
+__all__ = ["SoapfilmError", "InputError", "GeometryError", "SolveError", "EXIT_CHECK_FAILED"]
+
+#: Exit status of ``check`` and ``shaft`` when the check ran and failed (utilisation
+#: over 1); 0 is a pass, 1 an internal error, 2 a user error.
+EXIT_CHECK_FAILED = 3
 
 
 class SoapfilmError(Exception):

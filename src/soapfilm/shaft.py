@@ -12,6 +12,17 @@ torque T(x) is the torque the part right of a cut exerts on the part left
 of it, positive along +x, so that ``T = G J d(phi)/dx`` and an end torque
 +T0 on a shaft held at x = 0 gives T = +T0 and a positive twist.
 
+Twist check (rule of thumb, common practice): the limit is a twist per
+length, 0.25 deg/m by default, and it is meant for lengths of shaft that
+carry torque from one station to another.  By default (``twist_rule =
+"spans"``) it limits the relative rotation of every two stations (loads and
+held stations; for one bar, its two ends): at most ``limit * max(distance,
+basis)``, where the basis is the length the limit is written per (1 m for
+deg/m, 1 ft for deg/ft).  A stretch shorter than the basis may twist as much
+as the basis may: a short seat's fraction of a degree is not what a per-metre
+rule limits.  ``twist_rule = "segments"`` applies the limit to the twist per
+length of every segment, however short (the strictest reading).
+
 References
 ----------
 Gere, J. M., Mechanics of Materials: torsion of circular bars, nonuniform
@@ -45,8 +56,12 @@ __all__ = [
     "SegmentResult",
     "ShaftResult",
     "analyse_shaft",
+    "TwistStretch",
     "DEFAULT_TWIST_LIMIT",
+    "DEFAULT_TWIST_BASIS",
     "TWIST_LIMIT_NOTE",
+    "TWIST_RULES",
+    "kts_basis_text",
 ]
 
 #: Default twist-per-length limit, rad/m: 0.25 deg/m for machine shafts.
@@ -54,6 +69,15 @@ DEFAULT_TWIST_LIMIT = math.radians(0.25)
 TWIST_LIMIT_NOTE = (
     "rule of thumb for machine shafts (common practice, from memory), not a code requirement"
 )
+#: Length the default limit is written per (m): a stretch shorter than this may
+#: twist ``limit * DEFAULT_TWIST_BASIS``.
+DEFAULT_TWIST_BASIS = 1.0
+#: How the twist limit is applied: between stations (default) or per segment.
+TWIST_RULES = {
+    "spans": "the twist between every two stations (for one bar: its ends), over their "
+             "distance, a distance shorter than the basis counting as the basis",
+    "segments": "the twist per length of every segment, however short (the strictest reading)",
+}
 
 
 # --------------------------------------------------------------------------- sections
@@ -71,11 +95,21 @@ class Section:
     method : str
         ``"closed form"`` or ``"finite elements"``.
     nominal_diameter : float or None
-        Diameter (m) on which Kts is based: 16 T / (pi d^3).
+        Diameter (m) on which Kts is based: 16 T / (pi d^3).  Only sections
+        with a stress raiser on a round base (keyways, flats, splines) have
+        one; a plain round bar or tube has none (no Kts).
     area, polar_moment : float or None
     torsion_constant_bounds : (float, float) or None
         Guaranteed bracket on J from the solver (m^4).
     warnings : tuple of str
+    nominal_bore : float or None
+        Bore (m) of a hollow round base: Kts is then based on the tube's
+        nominal stress 16 T d / (pi (d^4 - d_i^4)), so that the hollow-section
+        effect is not counted as a stress concentration.
+    nominal_source : str
+        Where the nominal diameter comes from (shown beside Kts).
+    outside_diameter : float or None
+        Outside diameter of a round section (m), for drawings.
     """
 
     name: str
@@ -87,6 +121,9 @@ class Section:
     polar_moment: float | None = None
     torsion_constant_bounds: tuple[float, float] | None = None
     warnings: tuple[str, ...] = ()
+    nominal_bore: float | None = None
+    nominal_source: str = ""
+    outside_diameter: float | None = None
 
     @property
     def torsional_section_modulus(self) -> float:
@@ -106,20 +143,36 @@ class Section:
     def kts(self, nominal_diameter: float | None = None) -> float | None:
         """Stress concentration in torsion, tau_max / (16 T / (pi d^3)).
 
-        Based on ``nominal_diameter`` if given, else the section's own
-        nominal diameter; None when neither is known.
+        Based on ``nominal_diameter`` if given (a solid round), else the
+        section's own nominal diameter and bore
+        (``16 T d / (pi (d^4 - d_i^4))``); None when neither is known.
         """
-        d = nominal_diameter if nominal_diameter is not None else self.nominal_diameter
-        if d is None:
+        if nominal_diameter is not None:
+            d, bore = nominal_diameter, 0.0
+        elif self.nominal_diameter is not None:
+            d, bore = self.nominal_diameter, self.nominal_bore or 0.0
+        else:
             return None
-        return self.max_shear_per_torque * math.pi * d**3 / 16.0
+        return self.max_shear_per_torque * math.pi * (d**4 - bore**4) / (16.0 * d)
+
+
+def kts_basis_text(d: float, bore: float | None, fmt) -> str:
+    """``tau_max / (16 T / (pi d^3)), d = 40 mm``: the nominal stress of a Kts in words.
+
+    ``fmt(value_m)`` formats a length.
+    """
+    if bore:
+        return (f"tau_max / (16 T d / (pi (d^4 - d_i^4))), d = {fmt(d)}, "
+                f"d_i = {fmt(bore)}")
+    return f"tau_max / (16 T / (pi d^3)), d = {fmt(d)}"
 
 
 def round_section(diameter: float, bore: float = 0.0, name: str = "") -> Section:
     """Solid or hollow round section by the closed forms.
 
     ``J = pi (d^4 - d_i^4) / 32`` and ``tau_max = T (d/2) / J``, exact for
-    the circle (no polygon, no mesh).
+    the circle (no polygon, no mesh).  A plain round bar or tube has no
+    stress raiser, so it has no nominal diameter and no Kts.
 
     References
     ----------
@@ -137,10 +190,10 @@ def round_section(diameter: float, bore: float = 0.0, name: str = "") -> Section
         torsion_constant=j,
         max_shear_per_torque=0.5 * diameter / j,
         method="closed form",
-        nominal_diameter=diameter,
         area=math.pi * (diameter**2 - bore**2) / 4.0,
         polar_moment=j,
         torsion_constant_bounds=(j, j),
+        outside_diameter=diameter,
     )
 
 
@@ -166,7 +219,9 @@ def nominal_diameter_hint(obj) -> float | None:
     return None
 
 
-def section_from_result(result, nominal_diameter: float | None = None, name: str = "") -> Section:
+def section_from_result(result, nominal_diameter: float | None = None, name: str = "",
+                        nominal_bore: float | None = None, nominal_source: str = "",
+                        outside_diameter: float | None = None) -> Section:
     """Convert a :class:`~soapfilm.result.TorsionResult` to SI.
 
     Parameters
@@ -175,6 +230,10 @@ def section_from_result(result, nominal_diameter: float | None = None, name: str
         In its profile's length unit.
     nominal_diameter : float, optional
         In metres; default: the section's own (see :func:`nominal_diameter_hint`).
+    nominal_bore, outside_diameter : float, optional
+        In metres (see :class:`Section`).
+    nominal_source : str
+        Where the nominal diameter comes from, in words.
     """
     from .profile import LENGTH_UNITS
 
@@ -182,6 +241,8 @@ def section_from_result(result, nominal_diameter: float | None = None, name: str
     if nominal_diameter is None:
         hint = nominal_diameter_hint(result)
         nominal_diameter = None if hint is None else hint * s
+        if hint is not None and not nominal_source:
+            nominal_source = "the section's own"
     lo, hi = result.torsion_constant_bounds
     return Section(
         name=name or result.profile.name or "section",
@@ -193,6 +254,9 @@ def section_from_result(result, nominal_diameter: float | None = None, name: str
         polar_moment=result.polar_moment * s**4,
         torsion_constant_bounds=(lo * s**4, hi * s**4),
         warnings=tuple(result.warnings),
+        nominal_bore=nominal_bore if nominal_diameter is not None else None,
+        nominal_source=nominal_source if nominal_diameter is not None else "",
+        outside_diameter=outside_diameter,
     )
 
 
@@ -202,7 +266,11 @@ class SectionCheck:
     """Stress, twist and stiffness of a prismatic bar under a torque (SI).
 
     ``utilisation`` is the larger of the stress and the twist utilisation;
-    ``passed`` means it is at most 1.
+    ``passed`` means it is at most 1.  The twist utilisation follows
+    ``twist_rule``: ``"spans"`` (the bar is one span between the stations at
+    its ends: its twist angle against ``twist_limit * max(length,
+    twist_basis)``) or ``"segments"`` (its twist per length against the
+    limit, however short).
     """
 
     section: Section
@@ -218,6 +286,15 @@ class SectionCheck:
     utilisation_stress: float
     utilisation_twist: float
     nominal_diameter: float | None = None
+    twist_basis: float = DEFAULT_TWIST_BASIS
+    twist_rule: str = "spans"
+
+    @property
+    def allowed_twist(self) -> float:
+        """Twist angle the limit allows this bar (rad)."""
+        if self.twist_rule == "segments":
+            return self.twist_limit * self.length
+        return self.twist_limit * max(self.length, self.twist_basis)
 
     @property
     def utilisation(self) -> float:
@@ -233,7 +310,16 @@ class SectionCheck:
 
     @property
     def kts(self) -> float | None:
-        return self.section.kts(self.nominal_diameter)
+        return self.section.kts(self.nominal_diameter
+                                if self.nominal_diameter != self.section.nominal_diameter
+                                else None)
+
+
+def _check_twist_rule(rule: str) -> str:
+    if rule not in TWIST_RULES:
+        raise InputError(f"unknown twist rule {rule!r}",
+                         fix=f"use one of {', '.join(TWIST_RULES)}")
+    return rule
 
 
 def check_section(
@@ -244,6 +330,8 @@ def check_section(
     allowable: Allowable,
     twist_limit: float = DEFAULT_TWIST_LIMIT,
     nominal_diameter: float | None = None,
+    twist_basis: float = DEFAULT_TWIST_BASIS,
+    twist_rule: str = "spans",
 ) -> SectionCheck:
     """Check one prismatic bar: tau = T tau_max/T, phi = T L / (G J), k = G J / L.
 
@@ -258,14 +346,30 @@ def check_section(
         Allowed twist per length, rad/m.
     nominal_diameter : float, optional
         Basis for Kts (m); default the section's own.
+    twist_basis : float
+        Length the limit is written per (m); see the module docstring.
+    twist_rule : {"spans", "segments"}
+        ``"spans"``: the bar is the span between its ends, its twist angle is
+        held against ``twist_limit * max(length, twist_basis)``;
+        ``"segments"``: its twist per length against ``twist_limit``.
+
+    References
+    ----------
+    Gere, Mechanics of Materials: torsion of circular bars (phi = T L / (G J)).
     """
     for value, what in ((length, "length"), (shear_modulus, "shear modulus"),
-                        (allowable.value, "allowable shear stress"), (twist_limit, "twist limit")):
+                        (allowable.value, "allowable shear stress"), (twist_limit, "twist limit"),
+                        (twist_basis, "twist basis length")):
         if not (value > 0 and math.isfinite(value)):
             raise InputError(f"the {what} must be positive, got {value:g}")
+    _check_twist_rule(twist_rule)
     gj = shear_modulus * section.torsion_constant
     tau = abs(torque) * section.max_shear_per_torque
     rate = torque / gj
+    if twist_rule == "segments":
+        util_twist = abs(rate) / twist_limit
+    else:
+        util_twist = abs(rate * length) / (twist_limit * max(length, twist_basis))
     return SectionCheck(
         section=section,
         torque=torque,
@@ -278,9 +382,11 @@ def check_section(
         twist_per_length=rate,
         torsional_stiffness=gj / length,
         utilisation_stress=tau / allowable.value,
-        utilisation_twist=abs(rate) / twist_limit,
+        utilisation_twist=util_twist,
         nominal_diameter=nominal_diameter if nominal_diameter is not None
         else section.nominal_diameter,
+        twist_basis=twist_basis,
+        twist_rule=twist_rule,
     )
 
 
@@ -326,6 +432,8 @@ class ShaftModel:
     supports: tuple[Support, ...] = ()
     twist_limit: float = DEFAULT_TWIST_LIMIT
     twist_limit_note: str = TWIST_LIMIT_NOTE
+    twist_basis: float = DEFAULT_TWIST_BASIS
+    twist_rule: str = "spans"
 
     @property
     def length(self) -> float:
@@ -339,7 +447,12 @@ class ShaftModel:
 
 @dataclass(frozen=True)
 class SegmentResult:
-    """Results for one segment (SI)."""
+    """Results for one segment (SI).
+
+    ``utilisation_twist`` is None unless the twist rule is ``"segments"``
+    (by default the twist is checked between stations, see
+    :attr:`ShaftResult.twist_spans`).
+    """
 
     index: int
     segment: Segment
@@ -352,7 +465,7 @@ class SegmentResult:
     max_twist_per_length: float
     torsional_stiffness: float
     utilisation_stress: float
-    utilisation_twist: float
+    utilisation_twist: float | None
 
     @property
     def governing_torque(self) -> float:
@@ -361,7 +474,12 @@ class SegmentResult:
 
     @property
     def utilisation(self) -> float:
-        return max(self.utilisation_stress, self.utilisation_twist)
+        return max(self.utilisation_stress, self.utilisation_twist or 0.0)
+
+    @property
+    def governs(self) -> str:
+        return ("twist" if (self.utilisation_twist or 0.0) > self.utilisation_stress
+                else "stress")
 
     @property
     def passed(self) -> bool:
@@ -370,6 +488,48 @@ class SegmentResult:
     @property
     def kts(self) -> float | None:
         return self.segment.section.kts()
+
+
+@dataclass(frozen=True)
+class TwistStretch:
+    """The shaft between two stations, for the twist check (SI).
+
+    Attributes
+    ----------
+    start, end : str
+        Names of the stations at its ends.
+    x_start, x_end : float
+        Their positions (m).
+    twist_angle : float
+        Rotation of the end station relative to the start station (rad),
+        sum of T_i L_i / (G_i J_i) over the pieces between them.
+    internal_torque : float or None
+        The internal torque between them (N*m) when it is one value (two
+        neighbouring stations), else None.
+    allowed_twist : float
+        ``twist_limit * max(length, twist_basis)`` (rad).
+    """
+
+    start: str
+    end: str
+    x_start: float
+    x_end: float
+    twist_angle: float
+    internal_torque: float | None
+    allowed_twist: float
+
+    @property
+    def length(self) -> float:
+        return self.x_end - self.x_start
+
+    @property
+    def twist_per_length(self) -> float:
+        """Mean twist per length over the stretch (rad/m)."""
+        return self.twist_angle / self.length if self.length > 0 else 0.0
+
+    @property
+    def utilisation(self) -> float:
+        return abs(self.twist_angle) / self.allowed_twist
 
 
 @dataclass(frozen=True)
@@ -391,6 +551,12 @@ class ShaftResult:
         Torque each support applies to the shaft (N*m).
     statics : str
         ``"determinate"`` or ``"indeterminate"``.
+    twist_spans : tuple of TwistStretch
+        The shaft between each two neighbouring stations, left to right.
+    twist_governing : TwistStretch or None
+        Rule ``"spans"``: the stretch between any two stations with the
+        largest twist utilisation (a run of short spans can govern together);
+        None with rule ``"segments"`` or fewer than two stations.
     """
 
     model: ShaftModel
@@ -402,6 +568,8 @@ class ShaftResult:
     segments: tuple[SegmentResult, ...]
     statics: str
     notes: tuple[str, ...] = field(default=())
+    twist_spans: tuple[TwistStretch, ...] = ()
+    twist_governing: TwistStretch | None = None
 
     @property
     def end_to_end_twist(self) -> float:
@@ -414,11 +582,32 @@ class ShaftResult:
 
     @property
     def governing(self) -> SegmentResult:
+        """The segment with the largest utilisation of its own checks."""
         return max(self.segments, key=lambda s: s.utilisation)
 
     @property
+    def utilisation_stress(self) -> float:
+        return max(s.utilisation_stress for s in self.segments)
+
+    @property
+    def utilisation_twist(self) -> float:
+        """The largest twist utilisation, by the model's twist rule."""
+        if self.model.twist_rule == "segments":
+            return max(s.utilisation_twist or 0.0 for s in self.segments)
+        return self.twist_governing.utilisation if self.twist_governing else 0.0
+
+    @property
+    def utilisation(self) -> float:
+        return max(self.utilisation_stress, self.utilisation_twist)
+
+    @property
+    def governs(self) -> str:
+        """``"stress"`` or ``"twist"``: which check has the larger utilisation."""
+        return "twist" if self.utilisation_twist > self.utilisation_stress else "stress"
+
+    @property
     def passed(self) -> bool:
-        return all(s.passed for s in self.segments)
+        return self.utilisation <= 1.0
 
 
 def _merge_positions(positions: Sequence[float], tol: float) -> np.ndarray:
@@ -440,6 +629,9 @@ def analyse_shaft(model: ShaftModel) -> ShaftResult:
       piece ``T L / (G J)`` (compatibility: the held stations do not turn),
       i.e. the stiffness method on the chain of pieces.
 
+    Stress is checked in every segment; twist by ``model.twist_rule`` (see
+    the module docstring).
+
     References
     ----------
     Gere, Mechanics of Materials: nonuniform torsion; statically
@@ -448,6 +640,11 @@ def analyse_shaft(model: ShaftModel) -> ShaftResult:
     segs = model.segments
     if not segs:
         raise InputError("the shaft has no segments", fix="add at least one [[segment]]")
+    _check_twist_rule(model.twist_rule)
+    for value, what in ((model.twist_limit, "twist limit"),
+                        (model.twist_basis, "twist basis length")):
+        if not (value > 0 and math.isfinite(value)):
+            raise InputError(f"the {what} must be positive, got {value:g}")
     bounds = model.boundaries
     total = bounds[-1]
     tol = 1e-9 * total
@@ -543,8 +740,10 @@ def analyse_shaft(model: ShaftModel) -> ShaftResult:
             max_twist_per_length=rate,
             torsional_stiffness=g * j / seg.length,
             utilisation_stress=tau / seg.allowable.value,
-            utilisation_twist=rate / model.twist_limit,
+            utilisation_twist=rate / model.twist_limit if model.twist_rule == "segments"
+            else None,
         ))
+    spans, governing = _twist_stretches(model, x, twist, torque, node_of)
     return ShaftResult(
         model=model,
         x=x,
@@ -555,4 +754,41 @@ def analyse_shaft(model: ShaftModel) -> ShaftResult:
         segments=tuple(results),
         statics=statics,
         notes=tuple(notes),
+        twist_spans=spans,
+        twist_governing=governing if model.twist_rule == "spans" else None,
     )
+
+
+def _twist_stretches(model: ShaftModel, x, twist, torque, node_of):
+    """Neighbouring-station spans and the governing stretch between any two stations.
+
+    The rotation between two stations is the twist accumulated between them
+    (sum of T_i L_i / (G_i J_i) over the pieces), held against
+    ``limit * max(distance, basis)``.  Every pair is tried (at most a few
+    dozen stations): several short spans twisting the same way can together
+    exceed what one basis length may twist.
+    """
+    named: dict[int, list[str]] = {}
+    for st in (*model.loads, *model.supports):
+        named.setdefault(node_of(st.position), []).append(st.name)
+    nodes = sorted(named)
+    if len(nodes) < 2:
+        return (), None
+    names = [" + ".join(named[i]) for i in nodes]
+
+    def stretch(a, b, with_torque):
+        i, k = nodes[a], nodes[b]
+        length = float(x[k] - x[i])
+        tq = float(torque[i]) if with_torque else None  # constant between neighbours
+        return TwistStretch(names[a], names[b], float(x[i]), float(x[k]),
+                            float(twist[k] - twist[i]), tq,
+                            model.twist_limit * max(length, model.twist_basis))
+
+    spans = tuple(stretch(a, a + 1, True) for a in range(len(nodes) - 1))
+    best = None
+    for a in range(len(nodes) - 1):
+        for b in range(a + 1, len(nodes)):
+            st = spans[a] if b == a + 1 else stretch(a, b, False)
+            if best is None or st.utilisation > best.utilisation * (1 + 1e-12):
+                best = st
+    return spans, best

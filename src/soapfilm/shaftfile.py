@@ -238,7 +238,8 @@ class SectionSource:
             # units None: the reader decides (its own header, else mm)
             return self.from_file(path, units, where, nominal, mesh_size,
                                   missing_fix="paths are relative to the shaft file",
-                                  layers=layers, join_tolerance=jt, hints=hints)[0]
+                                  layers=layers, join_tolerance=jt, hints=hints,
+                                  nominal_source=f"{where} key 'nominal_diameter'")[0]
         for k in ("layer", "join_tolerance"):
             if k in spec:
                 raise InputError(f"'{k}' goes with 'file' (a DXF drawing) only", where=where)

@@ -4,10 +4,11 @@ from __future__ import annotations
 
 import numpy as np
 
+from .report.checks import held_label
 from .shaft import ShaftResult
 from .units import UnitSystem
 
-__all__ = ["plot_shaft"]
+__all__ = ["plot_shaft", "shaft_figure_bytes"]
 
 
 def plot_shaft(result: ShaftResult, system: UnitSystem, axes=None):
@@ -51,7 +52,8 @@ def plot_shaft(result: ShaftResult, system: UnitSystem, axes=None):
     ax_t.set_ylabel(f"internal torque [{tu}]")
     ax_t.grid(True, color="0.9")
 
-    # segment boundaries and names, governing segment highlighted
+    # segment boundaries and names, the segment of largest stress (or own twist)
+    # utilisation shaded
     gov = result.governing.index
     b = system.value(result.model.boundaries, "position")
     for i in range(len(result.segments)):
@@ -93,7 +95,7 @@ def plot_shaft(result: ShaftResult, system: UnitSystem, axes=None):
     for sp, r in result.reactions:
         xs_ = system.value(sp.position, "position")
         ha, dx = placement(xs_)
-        ax_p.annotate(f"{sp.name} (held)\nreacts {system.fmt(r, 'torque', 3)}", xy=(xs_, 1.0),
+        ax_p.annotate(f"{held_label(sp.name)}\nreacts {system.fmt(r, 'torque', 3)}", xy=(xs_, 1.0),
                       xycoords=("data", "axes fraction"), xytext=(dx, -4),
                       textcoords="offset points", ha=ha, va="top", fontsize=7,
                       color="0.15")
@@ -109,17 +111,54 @@ def plot_shaft(result: ShaftResult, system: UnitSystem, axes=None):
     ax_p.text(0.0, -0.2, "\n".join(textwrap.wrap("Segments  " + key, 130)),
               transform=ax_p.transAxes, ha="left", va="top", fontsize=7.5, color="0.25")
     g = result.governing
+    tg = result.twist_governing
+    if result.governs == "twist" and tg is not None:
+        where = f"twist from {tg.start} to {tg.end}"
+        for ax in axes:  # the governing stretch, hatched
+            ax.axvspan(system.value(tg.x_start, "position"), system.value(tg.x_end, "position"),
+                       facecolor="none", edgecolor="#b42318", hatch="//", alpha=0.35, lw=0)
+    elif result.governs == "twist":
+        where = f"twist per length in {g.segment.name}"
+    else:
+        where = f"stress in {g.segment.name}"
+    verdict = "PASS" if result.passed else "FAIL"
     fig.suptitle(
-        f"{result.model.name}: end-to-end twist {system.fmt(result.end_to_end_twist, 'angle')}, "
-        f"governing: {g.segment.name} (utilisation {g.utilisation:.2f})", fontsize=10)
+        f"{result.model.name}: {verdict}, utilisation {result.utilisation:.2f} ({where}); "
+        f"end-to-end twist {system.fmt(result.end_to_end_twist, 'angle')}", fontsize=10)
     return ax_t, ax_p
+
+
+def shaft_figure_bytes(result: ShaftResult, system: UnitSystem, fmt: str = "png",
+                       dpi: int = 150) -> bytes:
+    """The figure of :func:`plot_shaft` as PNG, SVG or PDF bytes (closed after)."""
+    import io
+
+    import matplotlib
+
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+
+    ax_t, _ = plot_shaft(result, system)
+    fig = ax_t.figure
+    buf = io.BytesIO()
+    # no dates, fixed SVG ids: the same result gives the same bytes
+    meta = {"png": {"Software": "soapfilm"}, "svg": {"Date": None},
+            "pdf": {"Creator": "soapfilm", "CreationDate": None}}
+    try:
+        with matplotlib.rc_context({"svg.hashsalt": "soapfilm"}):
+            fig.savefig(buf, format=fmt, dpi=dpi, bbox_inches="tight", metadata=meta.get(fmt),
+                        facecolor="white")
+    finally:
+        plt.close(fig)
+    return buf.getvalue()
 
 
 def _draw_outline(ax, result: ShaftResult, system: UnitSystem) -> None:
     """Side view of the stepped shaft: each segment as a bar of its diameter.
 
-    The height is the nominal diameter when known, else the equivalent
-    diameter of the same stiffness d_J; numbers name the segments.
+    The height is the outside diameter of a round section, the nominal
+    diameter of a keyed or splined one, else the equivalent diameter of the
+    same stiffness d_J; numbers name the segments.
     """
     from matplotlib.patches import Rectangle
 
@@ -128,7 +167,7 @@ def _draw_outline(ax, result: ShaftResult, system: UnitSystem) -> None:
     heights = []
     for s in result.segments:
         sec = s.segment.section
-        d = sec.nominal_diameter or sec.equivalent_diameter_stiffness
+        d = sec.outside_diameter or sec.nominal_diameter or sec.equivalent_diameter_stiffness
         heights.append(system.value(d, "length"))
     hmax = max(heights)
     for s, h in zip(result.segments, heights, strict=True):

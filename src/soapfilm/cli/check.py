@@ -72,7 +72,8 @@ def system_of(args) -> UnitSystem:
 
 
 def section_json(sec: Section, nominal: float | None) -> dict:
-    """Section properties in SI base units."""
+    """Section properties in SI base units (README, "JSON output")."""
+    own = nominal is None or nominal == sec.nominal_diameter
     return {
         "name": sec.name,
         "method": sec.method,
@@ -85,8 +86,10 @@ def section_json(sec: Section, nominal: float | None) -> dict:
         "area_m2": sec.area,
         "equivalent_diameter_stiffness_m": sec.equivalent_diameter_stiffness,
         "equivalent_diameter_strength_m": sec.equivalent_diameter_strength,
-        "nominal_diameter_m": nominal,
-        "stress_concentration_kts": sec.kts(nominal),
+        "nominal_diameter_m": nominal if nominal is not None else sec.nominal_diameter,
+        "nominal_bore_m": sec.nominal_bore if own else None,
+        "nominal_diameter_source": (sec.nominal_source or None) if own else "given",
+        "stress_concentration_kts": sec.kts() if own else sec.kts(nominal),
         "warnings": list(sec.warnings),
     }
 
@@ -131,6 +134,10 @@ def add_args(p: argparse.ArgumentParser) -> None:
                    "('-' = stdout)")
     p.add_argument("--quiet", action="store_true", help="no terminal output")
     add_input_args(p)
+    p.add_argument("--twist-rule", choices=("spans", "segments"),
+                   help="spans (default): the bar's twist against the limit times its length, "
+                        "at least the length the limit is written per (1 m for deg/m); "
+                        "segments: its twist per length against the limit, however short")
 
 
 def resolve_material(args) -> Material:
@@ -146,7 +153,8 @@ def resolve_material(args) -> Material:
     return Material("user", "user material", g, None, "--shear-modulus", "not given")
 
 
-def check_json(res: SectionCheck, mat: Material) -> dict:
+def check_json(res: SectionCheck, mat: Material, twist_note: str = TWIST_LIMIT_NOTE) -> dict:
+    """The check in SI base units (README, "JSON output", ``check``)."""
     out = {
         "units": "SI base units (m, N*m, Pa, rad)",
         "section": section_json(res.section, res.nominal_diameter),
@@ -160,6 +168,10 @@ def check_json(res: SectionCheck, mat: Material) -> dict:
         "twist_angle_rad": res.twist_angle,
         "twist_per_length_rad_per_m": res.twist_per_length,
         "twist_limit_rad_per_m": res.twist_limit,
+        "twist_limit_basis": twist_note,
+        "twist_limit_per_length_m": res.twist_basis,
+        "twist_rule": res.twist_rule,
+        "allowed_twist_angle_rad": res.allowed_twist,
         "torsional_stiffness_Nm_per_rad": res.torsional_stiffness,
         "utilisation_stress": res.utilisation_stress,
         "utilisation_twist": res.utilisation_twist,
@@ -171,14 +183,50 @@ def check_json(res: SectionCheck, mat: Material) -> dict:
     return out
 
 
-def print_check(res: SectionCheck, mat: Material, sys: UnitSystem, twist_note: str,
-                con) -> None:
+def print_view_tables(view, con) -> None:
+    """The check table (what, value, limit, utilisation, basis) and the inputs table."""
     from rich.markup import escape
     from rich.table import Table
 
+    from ..report.checks import CHECK_COLUMNS, INPUT_COLUMNS
+
+    t = Table(title="Check", header_style="bold", title_justify="left")
+    for col in CHECK_COLUMNS:
+        t.add_column(col, justify="right" if col in ("value", "limit", "utilisation")
+                     else "left", overflow="fold")
+    for r in view.rows:
+        cells = [escape(c) for c in r.cells()]
+        if r.over:
+            cells[3] = f"[bold red]{cells[3]}[/]"
+        t.add_row(*cells)
+    con.print(t)
+    t = Table(title="Check inputs and their sources", header_style="bold", title_justify="left")
+    for col in INPUT_COLUMNS:
+        t.add_column(col, overflow="fold")
+    for row in view.inputs:
+        t.add_row(*(escape(c) for c in row))
+    con.print(t)
+
+
+def print_headline(view, con) -> None:
+    from rich.markup import escape
+
+    colour = "green" if view.passed else "red"
+    con.print(f"[bold {colour}]{view.verdict}[/]: {escape(view.headline.split(': ', 1)[-1])}")
+
+
+def print_check(res: SectionCheck, mat: Material, sys: UnitSystem, twist_note: str,
+                con, view=None) -> None:
+    from rich.markup import escape
+    from rich.table import Table
+
+    from ..report.checks import section_check_view
+
+    if view is None:
+        view = section_check_view(res, mat, sys, twist_note=twist_note)
     sec = res.section
     f = sys.fmt
-    t = Table(title=f"Torsion check: {sec.name}", header_style="bold")
+    t = Table(title=f"Section: {sec.name}", header_style="bold", title_justify="left")
     t.add_column("quantity")
     t.add_column("value", justify="right")
     t.add_column("basis / note")
@@ -187,46 +235,17 @@ def print_check(res: SectionCheck, mat: Material, sys: UnitSystem, twist_note: s
         t.add_row(escape(q), escape(v), escape(note))
     row("Torsion constant J", f(sec.torsion_constant, "J", 6), sec.method)
     row("Peak shear per unit torque", f(sec.max_shear_per_torque, "per_torque", 5),
-              sec.method)
+        sec.method)
     row("Torsional section modulus Wt", f(sec.torsional_section_modulus, "Wt", 6),
-              "T / tau_max")
+        "T / tau_max")
     row("Equivalent round dia. d_J", f(sec.equivalent_diameter_stiffness, "length"),
-              "(32 J / pi)^(1/4): same stiffness")
+        "(32 J / pi)^(1/4): same stiffness")
     row("Equivalent round dia. d_tau", f(sec.equivalent_diameter_strength, "length"),
-              "(16 Wt / pi)^(1/3): same peak stress")
-    kts = res.kts
-    if kts is None:
-        row("Stress concentration Kts", "-", "give --nominal-diameter for Kts")
-    else:
-        row("Stress concentration Kts", f"{kts:.3f}",
-                  f"tau_max / (16 T / (pi d^3)), d = {f(res.nominal_diameter, 'length')}")
-    t.add_section()
-    row("Torque T", f(res.torque, "torque"), "")
-    row("Length L", f(res.length, "length"), "")
-    row("Shear modulus G", f(res.shear_modulus, "modulus"),
-              f"{mat.label}: {mat.shear_modulus_note}")
-    t.add_section()
-    row("Peak shear stress tau_max", f(res.max_shear_stress, "stress"), "")
-    row("Allowable shear stress", f(res.allowable.value, "stress"),
-              criterion_text(res.allowable, sys))
-    if res.allowable.criterion and res.allowable.yield_strength is not None:
-        row("", "", res.allowable.basis.split("; Sy from ", 1)[-1]
-                  if "; Sy from " in res.allowable.basis else "")
-    row("Stress utilisation tau/tau_allow", f"{res.utilisation_stress:.3f}", "")
-    row("Twist angle", f(res.twist_angle, "angle"), "T L / (G J)")
-    row("Twist per length", f(res.twist_per_length, "twist_rate"), "")
-    row("Twist limit", f(res.twist_limit, "twist_rate"), twist_note)
-    row("Twist utilisation", f"{res.utilisation_twist:.3f}", "")
-    row("Torsional stiffness G J / L", f(res.torsional_stiffness, "stiffness"),
-              f"= {res.torsional_stiffness:.4g} N*m/rad" if sys.name == "SI" else "")
+        "(16 Wt / pi)^(1/3): same peak stress")
     con.print(t)
-    verdict = "[bold green]PASS[/]" if res.passed else "[bold red]FAIL[/]"
-    which = ("stress: tau_max / allowable" if res.governs == "stress"
-             else "twist: twist per length / limit")
-    why = criterion_text(res.allowable, sys) if res.governs == "stress" else twist_note
-    con.print(f"{verdict}: utilisation {res.utilisation:.3f}, governed by {which} "
-              f"({escape(why)})")
-    for w in sec.warnings:
+    print_view_tables(view, con)
+    print_headline(view, con)
+    for w in view.warnings:
         con.print(f"[bold yellow]warning:[/] {escape(w)}")
     con.print(f"[dim]Caution: {escape(CAUTION)}[/]")
 
@@ -258,22 +277,41 @@ def run(args) -> int:
 
     source = SectionSource(options=input_options(args))
     section, fe_result = source.from_file(args.section, None, "SECTION",
-                                          nominal_diameter=nominal)
+                                          nominal_diameter=nominal,
+                                          nominal_source="given with --nominal-diameter")
+    return finish(args, section, fe_result, torque, length, mat, allowable, twist_limit,
+                  twist_note, nominal, sys_)
+
+
+def finish(args, section, fe_result, torque, length, mat, allowable, twist_limit, twist_note,
+           nominal, sys_) -> int:
+    """Check, print, write the JSON and the report; the exit status (3: the check failed)."""
+    from ..errors import EXIT_CHECK_FAILED
+    from ..report.checks import section_check_view
+    from ..shaft import DEFAULT_TWIST_BASIS
+    from ..shaftfile import twist_basis_of
+
+    rule = getattr(args, "twist_rule", None)
+    basis = twist_basis_of(args.twist_limit) if args.twist_limit is not None \
+        else DEFAULT_TWIST_BASIS
     res = check_section(section, torque, length, mat.shear_modulus, allowable, twist_limit,
-                        nominal)
+                        nominal, twist_basis=basis, twist_rule=rule or "spans")
+    sources = {"criterion": "--criterion" if args.criterion else "default (distortion energy)",
+               "safety_factor": "--safety-factor" if args.safety_factor else "default: 1 (none)",
+               "twist_rule": "--twist-rule" if rule else "default",
+               "material": "--material" if args.material else "--shear-modulus"}
+    view = section_check_view(res, mat, sys_, twist_note=twist_note, sources=sources,
+                              section_file=str(args.section))
     con = console(args.quiet or args.json == "-")
     if con:
-        print_check(res, mat, sys_, twist_note, con)
-    out = check_json(res, mat)
-    out["twist_limit_basis"] = twist_note
+        print_check(res, mat, sys_, twist_note, con, view=view)
+    out = check_json(res, mat, twist_note)
     if args.report:
         from ..report import render_report
 
-        html = render_report(fe_result, torque=torque, shaft_check=out,
-                             inputs={"section file": str(args.section),
-                                     "length": args.length, "material": mat.label})
+        html = render_report(fe_result, torque=abs(torque) or None, check=view)
         write_atomic(args.report, html)
     if args.json:
         write_json(args.json, out)
-    return 0
+    return 0 if res.passed else EXIT_CHECK_FAILED
 

@@ -32,13 +32,37 @@ def add_args(p: argparse.ArgumentParser) -> None:
     p.add_argument("--json", metavar="OUT", help="write results as JSON (SI base units) to OUT "
                    "('-' = stdout)")
     p.add_argument("--plot", metavar="OUT.png",
-                   help="draw the internal-torque diagram and the twist along the axis")
+                   help="draw the shaft, the internal-torque diagram and the twist along the "
+                        "axis (PNG, SVG or PDF by suffix)")
     p.add_argument("--quiet", action="store_true", help="no terminal output")
     add_input_args(p, what="the section files")
+    p.add_argument("--twist-rule", choices=("spans", "segments"),
+                   help="spans (default): the twist between every two stations against the "
+                        "limit times their distance, at least the length the limit is written "
+                        "per (1 m for deg/m); segments: every segment's twist per length, "
+                        "however short (overrides the file's twist_rule)")
+    p.add_argument("--report", metavar="OUT.html",
+                   help="self-contained HTML report: the check, every segment, the stations "
+                        "and the shaft figure")
+
+
+def _stretch_json(sp) -> dict:
+    return {
+        "from": sp.start,
+        "to": sp.end,
+        "x_start_m": sp.x_start,
+        "x_end_m": sp.x_end,
+        "length_m": sp.length,
+        "internal_torque_Nm": sp.internal_torque,
+        "twist_angle_rad": sp.twist_angle,
+        "twist_per_length_rad_per_m": sp.twist_per_length,
+        "allowed_twist_angle_rad": sp.allowed_twist,
+        "utilisation": sp.utilisation,
+    }
 
 
 def shaft_json(res: ShaftResult) -> dict:
-    """Results in SI base units: one entry per segment, stations, totals."""
+    """Results in SI base units (README, "JSON output", ``shaft``)."""
     segs = []
     for s in res.segments:
         seg = s.segment
@@ -63,33 +87,49 @@ def shaft_json(res: ShaftResult) -> dict:
             "utilisation": s.utilisation,
             "passed": s.passed,
         })
-    stations = [{"name": ld.name, "kind": "load", "x_m": ld.position, "torque_Nm": ld.torque}
-                for ld in res.model.loads]
-    stations += [{"name": sp.name, "kind": "support", "x_m": sp.position, "torque_Nm": r}
-                 for sp, r in res.reactions]
+
+    def twist_at(x):
+        return float(res.twist[int(abs(res.x - x).argmin())])
+
+    stations = [{"name": ld.name, "kind": "load", "x_m": ld.position, "torque_Nm": ld.torque,
+                 "twist_angle_rad": twist_at(ld.position)} for ld in res.model.loads]
+    stations += [{"name": sp.name, "kind": "support", "x_m": sp.position, "torque_Nm": r,
+                  "twist_angle_rad": twist_at(sp.position)} for sp, r in res.reactions]
     stations.sort(key=lambda d: d["x_m"])
     gov = res.governing
+    m = res.model
     return {
         "units": "SI base units (m, N*m, Pa, rad)",
-        "name": res.model.name,
+        "name": m.name,
         "statics": res.statics,
         "segments": segs,
         "stations": stations,
+        "twist_check": {
+            "rule": m.twist_rule,
+            "limit_rad_per_m": m.twist_limit,
+            "limit_basis": m.twist_limit_note,
+            "limit_per_length_m": m.twist_basis,
+            "spans": [_stretch_json(sp) for sp in res.twist_spans],
+            "governing": None if res.twist_governing is None
+            else _stretch_json(res.twist_governing),
+        },
         "along_axis": {
             "x_m": res.x.tolist(),
             "twist_angle_rad": res.twist.tolist(),
             "internal_torque_Nm": res.piece_torque.tolist(),
         },
         "totals": {
-            "length_m": res.model.length,
+            "length_m": m.length,
             "end_to_end_twist_rad": res.end_to_end_twist,
             "torsional_stiffness_Nm_per_rad": res.torsional_stiffness,
-            "twist_limit_rad_per_m": res.model.twist_limit,
-            "twist_limit_basis": res.model.twist_limit_note,
+            "twist_limit_rad_per_m": m.twist_limit,
+            "twist_limit_basis": m.twist_limit_note,
             "governing_segment": gov.segment.name,
             "governing_index": gov.index,
-            "utilisation": gov.utilisation,
-            "governs": "stress" if gov.utilisation_stress >= gov.utilisation_twist else "twist",
+            "utilisation_stress": res.utilisation_stress,
+            "utilisation_twist": res.utilisation_twist,
+            "utilisation": res.utilisation,
+            "governs": res.governs,
             "passed": res.passed,
         },
         "notes": list(res.notes),
@@ -97,83 +137,46 @@ def shaft_json(res: ShaftResult) -> dict:
     }
 
 
-def print_shaft(res: ShaftResult, sys: UnitSystem, con) -> None:
+def print_shaft(res: ShaftResult, sys: UnitSystem, con, view=None) -> None:
     from rich.markup import escape as e
     from rich.table import Table
 
-    f = sys.fmt
+    from ..report.checks import shaft_check_view
+    from .check import print_headline, print_view_tables
+
+    if view is None:
+        view = shaft_check_view(res, sys)
     m = res.model
-    con.print(f"[bold]{e(m.name)}[/]: {len(m.segments)} segments, length {f(m.length, 'length')}, "
-              f"statically {res.statics}")
-    def table(title, cols):
+    n = len(m.segments)
+    con.print(f"[bold]{e(m.name)}[/]: {n} segment{'s' if n != 1 else ''}, length "
+              f"{sys.fmt(m.length, 'length')}, statically {res.statics}")
+    text_cols = ("segment", "section", "method", "material", "basis of the allowable",
+                 "stations", "station", "kind")
+    # the terminal leaves out what the report and the inputs table carry
+    bases = {s.segment.allowable.basis for s in res.segments}
+    skip = {"J bracket half-width / J", "material"} | (
+        {"basis of the allowable"} if len(bases) == 1 else set())
+    short = {"finite elements": "FE", "closed form (exact)": "exact"}
+    for title, head, rows, over in view.tables:
+        keep = [i for i, h in enumerate(head) if h not in skip]
         t = Table(header_style="bold", title=title, title_justify="left")
-        for col in cols:
-            t.add_column(col, justify="left" if col in ("segment", "section", "") else "right")
-        return t
-
-    gov = res.governing.index
-    lu = sys.unit("position")
-
-    def idx(s):
-        return str(s.index + 1) + ("*" if s.index == gov else "")
-
-    t1 = table("Segments and sections", ["#", "segment", f"x [{lu}]", "section", "method", "J",
-                                          "Kts"])
-    t2 = table("Stress", ["#", "segment", "torque", "tau_max", "allowable", "util.", ""])
-    t3 = table("Twist and stiffness", ["#", "segment", "G", "twist", "twist/L", "util.",
-                                        "G J / L"])
-    for s in res.segments:
-        seg = s.segment
-        kts = s.kts
-        t1.add_row(idx(s), e(seg.name),
-                   f"{sys.value(s.x_start, 'position'):.4g}-{sys.value(s.x_end, 'position'):.4g}",
-                   e(seg.section.name),
-                   "FE" if seg.section.method != "closed form" else "exact",
-                   f(seg.section.torsion_constant, "J"), "-" if kts is None else f"{kts:.2f}")
-        t2.add_row(idx(s), e(seg.name), f(s.governing_torque, "torque"),
-                   f(s.max_shear_stress, "stress"), f(seg.allowable.value, "stress"),
-                   f"{s.utilisation_stress:.3f}",
-                   "[green]ok[/]" if s.utilisation_stress <= 1 else "[bold red]over[/]")
-        t3.add_row(idx(s), e(seg.name), f(seg.material.shear_modulus, "modulus", 3),
-                   f(s.twist_angle, "angle", 3), f(s.max_twist_per_length, "twist_rate", 3),
-                   f"{s.utilisation_twist:.3f}", f(s.torsional_stiffness, "stiffness", 3))
-    for t in (t1, t2, t3):
+        for i in keep:
+            t.add_column(e(head[i]), justify="left" if head[i] in text_cols else "right",
+                         overflow="fold")
+        util = head.index("utilisation") if "utilisation" in head else None
+        for k, row in enumerate(rows):
+            cells = [e(short.get(str(row[i]), str(row[i]))) for i in keep]
+            if util is not None and k in over:
+                j = keep.index(util)
+                cells[j] = f"[bold red]{cells[j]}[/]"
+            t.add_row(*cells)
         con.print(t)
-    st = Table(header_style="bold", title="Stations")
-    for col, just in (("station", "left"), ("x", "right"), ("torque on shaft", "right"),
-                      ("twist angle", "right")):
-        st.add_column(col, justify=just)
-    rows = [(ld.position, ld.name, ld.torque, "applied") for ld in m.loads]
-    rows += [(sp.position, sp.name + " (held)", r, "reaction") for sp, r in res.reactions]
-    for x, name, tq, kind in sorted(rows):
-        i = int(abs(res.x - x).argmin())
-        st.add_row(e(name), f(x, "position"), f"{f(tq, 'torque')} ({kind})",
-                   f(res.twist[i], "angle"))
-    con.print(st)
-    g = res.governing
-    con.print(f"End-to-end twist: {f(res.end_to_end_twist, 'angle')}   "
-              f"shaft stiffness (segments in series): {f(res.torsional_stiffness, 'stiffness')}"
-              + (f" = {res.torsional_stiffness:.4g} N*m/rad" if sys.name == "SI" else ""))
-    con.print(f"Twist limit {f(m.twist_limit, 'twist_rate')}: {e(m.twist_limit_note)}")
-    bases = []
-    for s in res.segments:
-        if s.segment.allowable.basis not in bases:
-            bases.append(s.segment.allowable.basis)
-    for b in bases:
-        con.print(f"Allowable shear: {e(b)}")
-    for s in res.segments:
-        if s.segment.allowable.source:
-            con.print(f"Criterion source: {e(s.segment.allowable.source)}")
-            break
-    which = "stress" if g.utilisation_stress >= g.utilisation_twist else "twist"
-    verdict = "[bold green]PASS[/]" if res.passed else "[bold red]FAIL[/]"
-    con.print(f"{verdict}: governing segment {g.index + 1} ({e(g.segment.name)}), utilisation "
-              f"{g.utilisation:.3f}, governed by {which}")
-    for note in res.notes:
+    print_view_tables(view, con)
+    for note in view.notes:
         con.print(f"[dim]note: {e(note)}[/]")
-    for s in res.segments:
-        for w in s.segment.section.warnings:
-            con.print(f"[bold yellow]warning:[/] segment {s.index + 1}: {e(w)}")
+    print_headline(view, con)
+    for w in view.warnings:
+        con.print(f"[bold yellow]warning:[/] {e(w)}")
     con.print(f"[dim]Caution: {e(CAUTION)}[/]")
 
 
@@ -181,16 +184,28 @@ def run(args) -> int:
     for target, opt in ((args.json, "--json"), (args.plot, "--plot")):
         if target and target != "-":
             check_writable(target, opt)
-    if args.plot and not args.plot.lower().endswith(".png"):
-        raise InputError("the plot is written as PNG", where=f"--plot {args.plot}",
-                         fix="give a file name ending in .png")
-    check_outputs_apart([args.file], [("--json", args.json), ("--plot", args.plot)])
+    if args.plot:
+        from ..plots import figure_format
+
+        figure_format(args.plot)  # PNG, SVG or PDF by suffix, else a user error now
+    if args.report:
+        if not args.report.lower().endswith((".html", ".htm")):
+            raise InputError("the report is an HTML file", where=f"--report {args.report}",
+                             fix="end the file name in .html")
+        check_writable(args.report, "--report")
+    check_outputs_apart([args.file], [("--json", args.json), ("--plot", args.plot),
+                                      ("--report", args.report)])
     sys_ = system_of(args)
     from ..shaftfile import CheckOptions, SectionSource, read_shaft
 
     opts = parse_allowable_args(args)
     g = parse_positive(args.shear_modulus, "modulus", "--shear-modulus")
-    options = CheckOptions(shear_modulus=g, material=args.material, **opts)
+    from ..shaftfile import twist_basis_of
+
+    options = CheckOptions(shear_modulus=g, material=args.material, **opts,
+                           twist_rule=args.twist_rule,
+                           twist_basis=None if args.twist_limit is None
+                           else twist_basis_of(args.twist_limit))
     model = read_shaft(args.file, options, SectionSource(options=input_options(args)))
     try:
         res = analyse_shaft(model)
@@ -198,26 +213,40 @@ def run(args) -> int:
         if exc.where is None:
             raise InputError(exc.what, where=args.file, fix=exc.fix) from None
         raise
+    return finish(args, res, sys_)
+
+
+def finish(args, res: ShaftResult, sys_) -> int:
+    """Print, write the JSON, the plot and the report; the exit status (3: a check failed)."""
+    from ..errors import EXIT_CHECK_FAILED
+    from ..report.checks import shaft_check_view
+
+    sources = {"twist_rule": "--twist-rule" if args.twist_rule else
+               ("the shaft file" if res.model.twist_rule != "spans" else "default")}
+    if args.criterion:
+        sources["criterion"] = "--criterion"
+    if args.safety_factor:
+        sources["safety_factor"] = "--safety-factor"
+    view = shaft_check_view(res, sys_, sources=sources, shaft_file=str(args.file))
     con = console(args.quiet or args.json == "-")
     if con:
-        print_shaft(res, sys_, con)
+        print_shaft(res, sys_, con, view=view)
     if args.json:
         write_json(args.json, shaft_json(res))
-    if args.plot:
-        import io
+    if args.plot or args.report:
+        from ..shaftplot import shaft_figure_bytes
 
-        import matplotlib
+        if args.plot:
+            from ..plots import figure_format
 
-        matplotlib.use("Agg")
-        import matplotlib.pyplot as plt
+            write_atomic(args.plot, shaft_figure_bytes(res, sys_, figure_format(args.plot)))
+            if con:
+                con.print(f"plot written to {args.plot}")
+        if args.report:
+            from ..report import render_shaft_report
 
-        from ..shaftplot import plot_shaft
-
-        ax_t, _ = plot_shaft(res, sys_)
-        buf = io.BytesIO()
-        ax_t.figure.savefig(buf, format="png", dpi=150, bbox_inches="tight")
-        plt.close(ax_t.figure)
-        write_atomic(args.plot, buf.getvalue())
-        if con:
-            con.print(f"plot written to {args.plot}")
-    return 0
+            write_atomic(args.report, render_shaft_report(
+                view, shaft_figure_bytes(res, sys_, "png", dpi=110)))
+            if con:
+                con.print(f"report written to {args.report}")
+    return 0 if res.passed else EXIT_CHECK_FAILED
