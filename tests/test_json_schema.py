@@ -447,6 +447,125 @@ def test_sweep_csv_columns_match_readme(sweep_run):
     _csv_matches_json(sweep_run[1], d, "sweep", d["input_units"])
 
 
+# --- check and shaft ---------------------------------------------------------------
+def _run_check(argv: list[str], out: Path) -> dict:
+    """Run `check` or `shaft` with --json; the exit status says the verdict (0 or 3)."""
+    from soapfilm.errors import EXIT_CHECK_FAILED
+
+    code = main([*argv, "--json", str(out), "--quiet"])
+    doc = _strict_loads(out.read_text(encoding="utf-8"))
+    passed = doc["passed"] if "passed" in doc else doc["totals"]["passed"]
+    assert code == (0 if passed else EXIT_CHECK_FAILED), (argv, code)
+    return doc
+
+
+@pytest.fixture(scope="module")
+def check_runs(tmp_path_factory):
+    """The README's check (a keyed seat with a named nominal diameter), the same held to the
+    per-segment twist rule (it fails), and a plain tube with a given allowable (no Kts, no
+    criterion)."""
+    tmp = tmp_path_factory.mktemp("check")
+    tube = tmp / "tube.toml"
+    tube.write_text('units = "mm"\n[section]\nkind = "tube"\ndiameter = 60\nwall = 5\n')
+    keyed = [str(SHAPES / "keyed-shaft-40.txt"), "--torque", "320 N*m", "--length", "80 mm",
+             "--material", "carbon-steel", "--nominal-diameter", "40 mm", "--safety-factor", "2",
+             "--tol", TOL]
+    cases = {
+        "readme": keyed,
+        "strict": [*keyed, "--twist-rule", "segments"],
+        "tube": [str(tube), "--torque", "320 N*m", "--length", "80 mm", "--shear-modulus",
+                 "79.3 GPa", "--allowable-shear", "100 MPa", "--tol", TOL],
+        "readme-us": [*keyed, "--unit-system", "US"],
+    }
+    return {name: _run_check(["check", *args], tmp / f"{name}.json")
+            for name, args in cases.items()}
+
+
+def test_check_json_matches_readme(check_runs):
+    seen = set()
+    for doc in check_runs.values():
+        seen |= check_document(doc, "check")
+    assert_covered("check", seen)
+    assert check_runs["readme"]["passed"] and not check_runs["strict"]["passed"]
+    tube = check_runs["tube"]["section"]
+    assert tube["stress_concentration_kts"] is None and tube["nominal_diameter_m"] is None
+
+
+def test_check_json_is_si_whatever_the_display(check_runs):
+    """--unit-system changes the terminal only: the JSON is the same numbers in SI."""
+    assert check_runs["readme-us"] == check_runs["readme"]
+
+
+SHAFT_FILE = """
+name = "Schema shaft"
+[check]
+material = "carbon-steel"
+safety_factor = 2
+
+[[segment]]
+name = "keyed seat"
+length = "80 mm"
+section = {{ file = "{keyed}", nominal_diameter = "40 mm" }}
+
+[[segment]]
+name = "journal"
+length = "60 mm"
+section = {{ diameter = "45 mm" }}
+
+[[segment]]
+name = "hollow spline"
+length = "70 mm"
+section = "{spline}"
+
+[[segment]]
+name = "tube"
+length = "300 mm"
+section = {{ diameter = "60 mm", bore = "40 mm" }}
+
+[[support]]
+name = "brake"
+at = "0 mm"
+
+[[load]]
+name = "pulley"
+at = "100 mm"
+torque = "200 N*m"
+
+[[load]]
+name = "coupling"
+at = "510 mm"
+torque = "-80 N*m"
+"""
+
+
+@pytest.fixture(scope="module")
+def shaft_runs(tmp_path_factory):
+    """A held shaft with finite-element sections (keyed, a hollow spline shape file) and
+    closed-form ones, checked between stations and per segment."""
+    tmp = tmp_path_factory.mktemp("shaft")
+    f = tmp / "s.toml"
+    f.write_text(SHAFT_FILE.format(keyed=(SHAPES / "keyed-shaft-40.txt").as_posix(),
+                                   spline=(SHAPES / "debarker-hollow-spline.toml").as_posix()))
+    return {rule: _run_check(["shaft", str(f), "--tol", TOL, "--twist-rule", rule],
+                             tmp / f"{rule}.json") for rule in ("spans", "segments")}
+
+
+def test_shaft_json_matches_readme(shaft_runs):
+    seen = set()
+    for doc in shaft_runs.values():
+        seen |= check_document(doc, "shaft")
+    assert_covered("shaft", seen)
+    spans, segs = shaft_runs["spans"], shaft_runs["segments"]
+    assert spans["twist_check"]["governing"] is not None
+    assert segs["twist_check"]["governing"] is None
+    assert all(s["utilisation_twist"] is None for s in spans["segments"])
+    assert all(s["utilisation_twist"] is not None for s in segs["segments"])
+    # a bored spline: Kts on the tube's nominal stress; a plain tube: none
+    sections = [s["section"] for s in spans["segments"]]
+    assert sections[2]["nominal_bore_m"] == pytest.approx(0.018, rel=1e-12)
+    assert sections[3]["stress_concentration_kts"] is None
+
+
 # --- numbers that are not finite ----------------------------------------------------
 @pytest.fixture(scope="module")
 def hex_result():
