@@ -6,7 +6,7 @@ import argparse
 
 from ..defaults import CAUTION
 from ..errors import InputError
-from ..materials import CRITERIA, Allowable, Material, criterion_key, material
+from ..materials import Allowable, Material, criterion_key, material
 from ..shaft import DEFAULT_TWIST_LIMIT, TWIST_LIMIT_NOTE, Section, SectionCheck, check_section
 from ..units import UnitSystem, parse_number, parse_positive, parse_quantity, unit_system
 from ._inputs import add_input_args, input_options
@@ -103,15 +103,6 @@ def allowable_json(a: Allowable) -> dict:
         "yield_strength_Pa": a.yield_strength,
         "safety_factor": a.safety_factor,
     }
-
-
-def criterion_text(a: Allowable, sys: UnitSystem) -> str:
-    """``0.577 Sy / n = 0.577 x 530 MPa / 2``: the allowable spelled out."""
-    if a.criterion is None:
-        return a.basis
-    factor, name, _ = CRITERIA[a.criterion]
-    return (f"{name}; {factor:.3f} x Sy {sys.fmt(a.yield_strength, 'stress')} / "
-            f"n {a.safety_factor:g}")
 
 
 # ----------------------------------------------------------------- the subcommand
