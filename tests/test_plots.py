@@ -9,6 +9,7 @@ import numpy as np
 import pytest
 
 from _visual_sections import (
+    box_tube,
     circle_loop,
     nonwhite_fraction,
     png_pixels,
@@ -204,3 +205,158 @@ def test_stress_surface_labels_are_inside_the_picture():
         bb = item.get_window_extent(renderer)
         assert fig.bbox.x0 - 1 <= bb.x0 and bb.x1 <= fig.bbox.x1 + 1, item.get_text()
         assert fig.bbox.y0 - 1 <= bb.y0 and bb.y1 <= fig.bbox.y1 + 1, item.get_text()
+
+
+# ------------------------------------------------- readable for every section (issue 10)
+def _shear_mappable(ax):
+    """The colour field of a shear map (the tripcolor with a colour bar)."""
+    (pc,) = [c for c in ax.collections if getattr(c, "colorbar", None) is not None]
+    return pc
+
+
+def _flow_lines(ax):
+    from matplotlib.contour import ContourSet
+
+    sets = [c for c in ax.collections if isinstance(c, ContourSet)]
+    assert len(sets) <= 1
+    return sets[0] if sets else None
+
+
+def _corner_marks(ax) -> int:
+    """Number of sharp-corner markers (white diamonds) drawn on the map."""
+    return sum(len(line.get_xdata()) for line in ax.lines if line.get_marker() == "D")
+
+
+def test_colour_bar_ends_at_the_reported_peak():
+    """A smooth section: the top of the scale is the reported peak, nothing beyond it.
+    With a torque the peak is in MPa: 1 N*m = 1000 N*mm, 1 N/mm^2 = 1 MPa (SI definitions)."""
+    r = rect_result()
+    for torque, factor in ((None, 1.0), (120.0, 120.0 * 1000.0)):
+        ax = plots.plot_shear(r, torque=torque)
+        pc = _shear_mappable(ax)
+        assert pc.norm.vmin == 0.0
+        assert pc.norm.vmax == pytest.approx(r.max_shear_per_torque * factor, rel=1e-12, abs=0)
+        assert pc.colorbar.extend == "neither"
+        assert float(np.max(pc.get_array())) <= pc.norm.vmax
+
+
+def test_colour_bar_extends_beyond_the_peak_at_sharp_corners():
+    """Box tube with sharp inner corners: the shear there grows like r^(pi/alpha - 1) =
+    r^(-1/3) for alpha = 3 pi / 2 (Williams 1952), so the drawn field exceeds the peak the
+    result reports (read away from the corners); the scale still ends at that peak and the
+    values beyond are drawn in the over-colour, with an arrow on the colour bar.  (On a
+    mesh this fine the corner values already exceed the peak; on a coarse one they need not,
+    and then there is no arrow: see the rectangle.)"""
+    r = analyse(box_tube(), mesh_size=0.4)
+    assert len(r.corners) == 4
+    ax = plots.plot_shear(r)
+    pc = _shear_mappable(ax)
+    assert pc.norm.vmax == pytest.approx(r.max_shear_per_torque, rel=1e-12, abs=0)
+    assert float(np.max(pc.get_array())) > 1.05 * pc.norm.vmax
+    assert pc.colorbar.extend == "max"
+    assert "beyond the reported peak" in _colorbar_axes(ax).get_ylabel()
+    over = np.array(matplotlib_colors_to_rgb(plots.OVER_COLOUR))
+    img = png_pixels(plots.figure_bytes(ax, "png"))
+    assert _has_colour(img, over, atol=0.02)  # corner zones and the colour bar's arrow
+    img_rect = png_pixels(plots.figure_bytes(plots.plot_shear(rect_result()), "png"))
+    assert not _has_colour(img_rect, over, atol=0.02)
+
+
+def matplotlib_colors_to_rgb(c):
+    from matplotlib.colors import to_rgb
+
+    return to_rgb(c)
+
+
+def test_corners_are_marked_and_labelled_on_the_map_and_the_drawing():
+    """One marker per sharp re-entrant corner: 4 inside a box tube (its hole's corners,
+    270 deg each), none on a rectangle (all corners convex); labels C1..C4."""
+    r = tube_result()
+    ax = plots.plot_shear(r)
+    assert _corner_marks(ax) == len(r.corners) == 4
+    labels = sorted(t.get_text() for t in ax.texts if t.get_text().startswith("C"))
+    assert labels == ["C1", "C2", "C3", "C4"]
+    legend_texts = [t.get_text() for t in ax.figure.legends[0].get_texts()]
+    assert any("C1–C4: sharp re-entrant corners" in t for t in legend_texts)
+    # show draws the section without solving and finds the same corners itself
+    axs = plots.draw_section(r.profile)
+    assert _corner_marks(axs) == 4
+    assert sorted(t.get_text() for t in axs.texts if t.get_text().startswith("C")) == labels
+    assert _corner_marks(plots.draw_section(r.profile, corners=())) == 0
+    assert _corner_marks(plots.plot_shear(rect_result())) == 0
+    assert _corner_marks(plots.draw_section(rect_result().profile)) == 0
+
+
+def test_many_corners_are_all_marked():
+    """ISO 14 straight spline 8 x 32 x 36 with sharp roots: each of the 8 splines meets the
+    minor circle at two sharp corners, 16 in all (ISO 14 profile, parallel flanks)."""
+    from soapfilm.shapes.splines import straight_spline
+
+    prof = straight_spline(minor_diameter=32.0, series="light")
+    ax = plots.draw_section(prof)
+    assert _corner_marks(ax) == 16
+    (legend,) = ax.figure.legends
+    assert "16" in legend.get_texts()[0].get_text()
+    img = png_pixels(plots.figure_bytes(ax, "png"))
+    assert nonwhite_fraction(img) > 0.2
+
+
+def _tube(diameter: float, wall: float):
+    from soapfilm.shapes.basic import tube
+
+    return tube(diameter, wall)
+
+
+def test_wall_thickness_of_standard_sections():
+    """Thinnest wall from the outline: a round tube's wall (D - d) / 2, a rectangle's
+    smaller side, a box tube's wall, a hexagon's width across flats (closed-form geometry)."""
+    from soapfilm.shapes.basic import box_tube, regular_polygon
+
+    cases = [(_tube(60.0, 2.0), 2.0), (rect_result().profile, 10.0),
+             (box_tube(40.0, 25.0, 4.0), 4.0), (regular_polygon(6, 19.0), 19.0)]
+    for prof, expected in cases:
+        # polygon sides stand in for the circles: a few 1e-4 of the wall at most
+        assert plots.wall_thickness(prof) == pytest.approx(expected, rel=2e-3, abs=0), prof.name
+
+
+def test_flow_lines_are_spaced_across_a_thin_tube():
+    """Thin round tube 60 x 2: the shear-flow lines are circles in the wall; on the page
+    they are at least MIN_LINE_GAP_PT apart and half that from the faces (r = 28 and 30,
+    closed-form geometry), as many as fit, and thinner than a tenth of the wall."""
+    ro, t = 30.0, 2.0
+    r = analyse(_tube(2 * ro, t), mesh_size=0.5, order=1)
+    ax = plots.plot_shear(r)
+    plots.figure_bytes(ax, "png")  # lay the figure out as saved
+    ppu = plots._points_per_unit(ax)
+    wall_pt = t * ppu
+    cs = _flow_lines(ax)
+    assert cs is not None
+    n = len(cs.levels)
+    assert 1 <= n <= wall_pt / plots.MIN_LINE_GAP_PT  # n lines need n gaps of the minimum
+    radii = []
+    for path in cs.get_paths():
+        v = path.vertices
+        rad = np.hypot(v[:, 0], v[:, 1])
+        assert np.ptp(rad) < 0.1 * t  # a circle in the wall
+        radii.append(float(rad.mean()))
+    radii = np.sort(radii)
+    assert len(radii) == n
+    gaps = np.diff(np.concatenate([[ro - t], radii, [ro]])) * ppu
+    assert gaps[1:-1].min(initial=np.inf) >= plots.MIN_LINE_GAP_PT
+    assert min(gaps[0], gaps[-1]) >= 0.5 * plots.MIN_LINE_GAP_PT
+    # one more line would not fit: the even split of the wall into n + 2 gaps
+    assert wall_pt / (n + 2) < plots.MIN_LINE_GAP_PT
+    (lw,) = set(np.atleast_1d(cs.get_linewidth()))
+    assert lw <= 0.1 * wall_pt
+    # the same tube before: twelve lines in a 2 mm wall; a solid bar keeps its twelve
+    assert len(_flow_lines(plots.plot_shear(rect_result())).levels) == 12
+
+
+def test_a_wall_too_thin_for_lines_gets_none():
+    """Tube 200 x 1: the wall is under MIN_LINE_GAP_PT on the page (about 2.5 pt), so no
+    line fits; the title says so."""
+    r = analyse(_tube(200.0, 1.0), mesh_size=0.5, order=1)
+    ax = plots.plot_shear(r)
+    assert 1.0 * plots._points_per_unit(ax) < plots.MIN_LINE_GAP_PT
+    assert _flow_lines(ax) is None
+    assert "too thin" in ax.get_title()

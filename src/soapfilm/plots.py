@@ -33,6 +33,11 @@ __all__ = [
     "plot_shear",
     "plot_warping",
     "plot_stress_surface",
+    "wall_chords",
+    "wall_thickness",
+    "shear_flow_levels",
+    "MIN_LINE_GAP_PT",
+    "OVER_COLOUR",
     "figure_bytes",
     "save_figure",
 ]
@@ -90,19 +95,19 @@ def _is_wide(profile: Profile) -> bool:
     return float(hi[0] - lo[0]) > _WIDE * float(hi[1] - lo[1])
 
 
-def _fit_size(profile: Profile, colorbar: bool, legend: bool = False) -> tuple[float, float]:
+def _fit_size(profile: Profile, colorbar: bool, legend: int = 0) -> tuple[float, float]:
     """Figure size whose plot area follows the section's height/width ratio.
 
     The width is fixed; the height is the plot width times the section's
     aspect ratio plus room for the title, the axis labels, a colour bar under
-    wide sections and the peak legend, so that the map fills the frame.
+    wide sections and ``legend`` rows of legend, so that the map fills the frame.
     """
     lo, hi = profile.outer.min(axis=0), profile.outer.max(axis=0)
     w, h = float(hi[0] - lo[0]), float(hi[1] - lo[1])
     aspect = (h + 0.1 * max(w, h)) / (w + 0.1 * max(w, h))
     wide = colorbar and _is_wide(profile)
     plot_w = _SIZE_2D[0] - (0.9 if wide or not colorbar else 1.75)
-    height = plot_w * aspect + 1.35 + (0.75 if wide else 0.0) + (0.3 if legend else 0.0)
+    height = plot_w * aspect + 1.35 + (0.75 if wide else 0.0) + 0.3 * int(legend)
     return _SIZE_2D[0], float(min(max(height, 3.0), 7.6))
 
 
@@ -135,14 +140,15 @@ def _finish_axes(ax, profile: Profile, title: str):
     ax.set_title(title, fontsize=10)
 
 
-def _colorbar(ax, mappable, label: str, horizontal: bool = False):
+def _colorbar(ax, mappable, label: str, horizontal: bool = False, extend: str = "neither"):
     from matplotlib.ticker import ScalarFormatter
 
     if horizontal:  # under a wide section: as wide as the map
-        cb = ax.figure.colorbar(mappable, ax=ax, location="bottom", aspect=45, pad=0.04)
+        cb = ax.figure.colorbar(mappable, ax=ax, location="bottom", aspect=45, pad=0.04,
+                                extend=extend)
     else:  # in an inset of the map's own box, so it is exactly as tall as the map
         cax = ax.inset_axes([1.035, 0.0, 0.045, 1.0], label="colorbar")
-        cb = ax.figure.colorbar(mappable, cax=cax)
+        cb = ax.figure.colorbar(mappable, cax=cax, extend=extend)
     fmt = ScalarFormatter(useMathText=True)
     fmt.set_powerlimits((-2, 4))
     cb.formatter = fmt
@@ -174,13 +180,375 @@ def _section_name(profile: Profile) -> str:
     return profile.name or "section"
 
 
+# ------------------------------------------------------- walls and line rules
+#: Smallest gap between neighbouring shear-flow lines across the thinnest wall,
+#: in points (1/72 in): about 1 mm on paper and 6 pixels at the 150 dpi of the
+#: PNGs, room for two white lines with a coloured gap between them.
+MIN_LINE_GAP_PT = 3.0
+
+#: Colour of shear above the reported peak (the colour bar's arrow): not in viridis.
+OVER_COLOUR = "#e7298a"
+
+#: Share of the outline length whose normal chord may be shorter than the
+#: thickness reported for the thinnest wall (tapers into acute corners), and
+#: share of the walls' chords on which the line-gap rule may fail (where a wall
+#: joins a thicker part, at fillets and junctions, the stress rises and lines
+#: close up, as the stress asks).
+_OUTLIER_SHARE = 0.1
+
+
+def _cross(a, b):
+    return a[..., 0] * b[..., 1] - a[..., 1] * b[..., 0]
+
+
+def wall_chords(profile: Profile, samples: int = 2000):
+    """Chords across the material along the inward normal of the outline.
+
+    The outline is cut into about ``samples`` equal pieces (at least one per
+    edge); from the middle of each a ray runs along the inward normal (the
+    material lies left of every loop) to where it first leaves the material.
+    This is the ray method of wall-thickness analysis (common practice, no
+    source): across a wall of thickness t between parallel faces the chord
+    is t, from either face.
+
+    Returns
+    -------
+    start : ndarray (K, 2)
+    direction : ndarray (K, 2)
+        Unit inward normals.
+    length : ndarray (K,)
+        Chord lengths (a ray that finds no exit, from rounding, is dropped).
+    weight : ndarray (K,)
+        Outline length each chord stands for.
+    """
+    a = np.vstack(profile.loops)
+    b = np.vstack([np.roll(lp, -1, axis=0) for lp in profile.loops])
+    e = b - a
+    seg = np.hypot(e[:, 0], e[:, 1])
+    k = np.maximum(1, np.ceil(seg / (seg.sum() / samples))).astype(int)
+    edge = np.repeat(np.arange(len(a)), k)
+    j = np.arange(k.sum()) - np.repeat(np.cumsum(k) - k, k)
+    start = a[edge] + ((j + 0.5) / k[edge])[:, None] * e[edge]
+    tang = e[edge] / seg[edge][:, None]
+    normal = np.c_[-tang[:, 1], tang[:, 0]]
+    weight = seg[edge] / k[edge]
+    tiny = 1e-9 * profile.size
+    length = np.empty(len(start))
+    chunk = max(1, 2_000_000 // len(a))
+    for c in range(0, len(start), chunk):
+        o, d = start[c:c + chunk, None, :], normal[c:c + chunk, None, :]
+        ao = a[None] - o
+        den = _cross(d, e[None])
+        with np.errstate(divide="ignore", invalid="ignore"):
+            s = _cross(ao, e[None]) / den
+            u = _cross(ao, d) / den
+        hit = (den != 0) & (s > tiny) & (u >= 0) & (u <= 1)
+        length[c:c + chunk] = np.where(hit, s, np.inf).min(axis=1)
+    ok = np.isfinite(length)
+    return start[ok], normal[ok], length[ok], weight[ok]
+
+
+def wall_thickness(profile: Profile, chords=None) -> float:
+    """Thickness of the thinnest wall of a section, in its length unit.
+
+    The local wall thickness at a point of the outline is the length of the
+    chord across the material along the inward normal (:func:`wall_chords`).
+    The thinnest wall is the shortest such chord, except that the shortest
+    tenth of the outline (by length) is set aside: near an acute convex
+    corner (a knife edge, the tip of a keyway land) the chord falls to zero
+    without there being a wall.  A thin-walled tube gives its wall, an I or
+    channel its web, a solid rectangle its smaller side, a hexagon its width
+    across flats, a spline its teeth.
+
+    It sets the width of the shear-flow lines (:func:`plot_shear`).
+    """
+    _, _, length, weight = chords if chords is not None else wall_chords(profile)
+    order = np.argsort(length)
+    share = np.cumsum(weight[order]) / weight.sum()
+    return float(length[order][np.searchsorted(share, _OUTLIER_SHARE)])
+
+
+def _inscribed_diameters(profile: Profile, start, normal, chords) -> np.ndarray:
+    """Diameter of the largest circle in the material touching the outline at each start.
+
+    The circle tangent at ``p`` (centre ``p + r n``) through an outline point
+    ``q`` has ``r = |q - p|^2 / (2 n.(q - p))``; the largest circle inside is
+    the smallest such r over the outline points in front of ``p`` (the
+    shrinking-ball construction of the medial axis).  Outline points: the
+    starts of all ``chords`` and the loop vertices.
+    """
+    q = np.vstack([chords[0], *profile.loops])
+    out = np.empty(len(start))
+    step = max(1, 2_000_000 // len(q))
+    for c in range(0, len(start), step):
+        dq = q[None, :, :] - start[c:c + step, None, :]
+        front = np.einsum("kqi,ki->kq", dq, normal[c:c + step])
+        with np.errstate(divide="ignore", invalid="ignore"):
+            r = np.einsum("kqi,kqi->kq", dq, dq) / (2.0 * front)
+        r[front <= 1e-12 * profile.size] = np.inf
+        out[c:c + step] = 2.0 * r.min(axis=1)
+    return out
+
+
+def _wall_profiles(profile: Profile, tri, phi, chords, corners=(), samples: int = 48,
+                   most: int = 400):
+    """The stress function across the walls, along chords from the outline.
+
+    ``most`` chords at most, evenly along the outline; each runs along the
+    inward normal to the far face or, where shorter, across the largest
+    circle inside touching there (so a ray that enters a wall lengthwise, at
+    a corner, stops where the wall's cross-section does).  Chords that start
+    or end within the zone of a sharp re-entrant corner
+    (:data:`soapfilm.corners.CORNER_ZONE_FRACTION` of the size; the stress is
+    unbounded there and lines must crowd) are left out, as the peak rule
+    leaves those zones out.  Sampled at ``samples`` points from face to face;
+    points the mesh does not cover (a curve's chord) take the nearest value.
+
+    Returns ``(across (K, S), span (K,), weight (K,), ray length (K,))``.
+    """
+    from matplotlib.tri import LinearTriInterpolator
+
+    from .corners import CORNER_ZONE_FRACTION
+
+    start, normal, length, weight = chords
+    pick = np.unique(np.linspace(0, len(start) - 1, min(most, len(start))).round().astype(int))
+    start, normal, length, weight = start[pick], normal[pick], length[pick], weight[pick]
+    span = np.minimum(length, _inscribed_diameters(profile, start, normal, chords))
+    end = start + span[:, None] * normal
+    keep = np.ones(len(start), dtype=bool)
+    zone = CORNER_ZONE_FRACTION * profile.size
+    for c in corners:
+        for xy in (start, end):
+            keep &= np.hypot(xy[:, 0] - c.x, xy[:, 1] - c.y) > zone
+    start, normal, weight = start[keep], normal[keep], weight[keep]
+    span, length = span[keep], length[keep]
+    s = np.linspace(0.0, 1.0, samples)
+    pts = start[:, None, :] + (span[:, None] * s[None, :])[..., None] * normal[:, None, :]
+    vals = LinearTriInterpolator(tri, phi)(pts[..., 0], pts[..., 1])
+    out = np.ma.filled(vals.astype(float), np.nan)
+    for row in out:  # fill the few points outside the mesh from their neighbours
+        bad = np.isnan(row)
+        if bad.all():
+            row[:] = 0.0
+        elif bad.any():
+            row[bad] = np.interp(np.flatnonzero(bad), np.flatnonzero(~bad), row[~bad])
+    return out, span, weight, length
+
+
+def shear_flow_levels(phi_max: float, across: np.ndarray, span: np.ndarray, min_gap: float,
+                      max_lines: int = 12, weight: np.ndarray | None = None,
+                      thin: np.ndarray | None = None,
+                      reach: np.ndarray | None = None) -> np.ndarray:
+    """Stress-function levels for the shear-flow lines.
+
+    The levels are ``first + k * step`` with ``step = phi_max / (n + 1)``:
+    equal steps, so that equal shear flow passes between neighbouring lines
+    and their crowding shows the stress (in a closed section ``phi_max`` is
+    a hole's value and the lines share the wall evenly).  ``n`` is the
+    largest count up to ``max_lines`` that fits the walls; possibly none.
+    Along a chord across a wall (``across``, ``span``) the lines fit when
+
+    * they cross at least ``min_gap`` apart, and at least half that from
+      the faces it joins (black outline against white lines), and
+    * no level lies within ``(min_gap / 2)^2`` of the wall's ridge (the
+      chord's inner maximum): across a thin open wall ``phi ~ R - s^2``
+      (``-lap phi = 2``), so such a level would cross the wall twice less
+      than ``min_gap`` apart, or wander along its ridge;
+
+    and a set of levels fits when it fits along all chords but a tenth of
+    the outline's length (where a wall joins a thicker part the stress, and
+    so the line density, rises: fillets, junctions).
+
+    ``first`` is ``step`` (from zero, the even split) unless the lines then
+    miss most of the thinnest walls (chords marked ``thin``) and a first
+    level between ``step / 2`` and ``step`` crosses more of them: a thin
+    open wall (an I beam's web) whose ridge is below one step would
+    otherwise show no line.
+
+    Parameters
+    ----------
+    phi_max : float
+        The stress function's largest value (0 on the outside).
+    across : ndarray (K, S)
+        Stress function sampled at S equally spaced points along K chords
+        across the walls, face to face.
+    span : ndarray (K,)
+        The chords' lengths.
+    min_gap : float
+        Smallest gap, in the length unit.
+    max_lines : int
+    weight : ndarray (K,), optional
+        Outline length each chord stands for (equal by default).
+    thin : ndarray (K,) of bool, optional
+        Chords across the thinnest walls (all by default).
+    reach : ndarray (K,) of bool, optional
+        Chords that end on the far face (all by default); the others end
+        inside the material, where a line may cross anywhere.
+
+    Returns
+    -------
+    ndarray
+        The levels, ascending; empty when none fits.
+    """
+    if not phi_max > 0 or max_lines < 1:
+        return np.empty(0)
+    span = np.asarray(span, dtype=float)
+    across = np.asarray(across, dtype=float).reshape(len(span), -1)
+    if not across.size:
+        n = max_lines
+        return phi_max * np.arange(1, n + 1) / (n + 1)
+    weight = np.ones(len(span)) if weight is None else np.asarray(weight, dtype=float)
+    weight = weight / weight.sum()
+    thin = np.ones(len(span), dtype=bool) if thin is None else np.asarray(thin, dtype=bool)
+    reach = np.ones(len(span), dtype=bool) if reach is None else np.asarray(reach, dtype=bool)
+    pos = np.linspace(0.0, 1.0, across.shape[1])[None, :] * span[:, None]
+    margin = 0.25 * min_gap**2
+    top = np.argmax(across, axis=1)
+    ridge = np.where((top > 0) & (top < across.shape[1] - 1), across.max(axis=1), np.nan)
+    lo, hi = across[:, :-1], across[:, 1:]
+    x0, dx = pos[:, :-1], np.diff(pos, axis=1)
+
+    def check(levels):
+        """(share of the outline where the levels fit, share of thin chords crossed)."""
+        # levels crossed between neighbouring samples: those between their values
+        s_lo, s_hi = np.searchsorted(levels, lo), np.searchsorted(levels, hi)
+        cnt = np.abs(s_hi - s_lo).ravel()
+        cell = np.repeat(np.arange(cnt.size), cnt)
+        j = np.repeat(np.minimum(s_lo, s_hi).ravel(), cnt) \
+            + np.arange(cell.size) - np.repeat(np.cumsum(cnt) - cnt, cnt)
+        k, i = np.divmod(cell, lo.shape[1])  # chord and sample interval of each crossing
+        a, b = lo[k, i], hi[k, i]
+        x = x0[k, i] + (levels[j] - a) / (b - a) * dx[k, i]
+        order = np.lexsort((x, k))
+        k, x = k[order], x[order]
+        first = np.full(len(span), np.inf)
+        last = np.full(len(span), -np.inf)
+        between = np.full(len(span), np.inf)
+        np.minimum.at(first, k, x)
+        np.maximum.at(last, k, x)
+        same = k[1:] == k[:-1]
+        np.minimum.at(between, k[1:][same], np.diff(x)[same])
+        near_ridge = np.any(np.abs(ridge[:, None] - levels[None, :]) < margin, axis=1)
+        face = np.minimum(first, np.where(reach, span - last, np.inf))
+        ok = (between >= min_gap) & (face >= 0.5 * min_gap) & ~near_ridge
+        crossed = np.isfinite(first) & thin
+        return float(weight[ok].sum()), float(crossed.sum() / max(thin.sum(), 1))
+
+    for n in range(max_lines, 0, -1):
+        step = phi_max / (n + 1)
+        best, best_cover = None, -1.0
+        for first in np.linspace(step, 0.5 * step, 9):  # the even split first
+            levels = first + step * np.arange(n)
+            share, cover = check(levels)
+            if share < 1.0 - _OUTLIER_SHARE - 1e-12:
+                continue
+            if cover >= 0.5:  # lines across (most of) the thinnest walls: take it
+                return levels
+            if cover > best_cover + 1e-9:
+                best, best_cover = levels, cover
+        if best is not None:
+            return best
+    return np.empty(0)
+
+
+def _points_per_unit(ax) -> float:
+    """Points (1/72 in) per length unit of an equal-aspect map, after layout."""
+    fig = ax.figure
+    engine = fig.get_layout_engine()
+    if engine is not None:
+        engine.execute(fig)
+    ax.apply_aspect()
+    x0, x1 = ax.get_xlim()
+    return 72.0 * ax.get_position().width * fig.get_figwidth() / abs(x1 - x0)
+
+
+def _line_width(thickness_pt: float) -> float:
+    """Contour line width: a twentieth of the thinnest wall, 0.25 to 0.6 pt."""
+    return float(np.clip(thickness_pt / 20.0, 0.25, 0.6))
+
+
+# ------------------------------------------------------------------ corners
+def _corner_markers(ax, corners):
+    """A white diamond at each sharp re-entrant corner; the legend handle (None without)."""
+    if not corners:
+        return None
+    xy = np.array([(c.x, c.y) for c in corners], dtype=float)
+    n = len(corners)
+    what = "corner" if n == 1 else "corners"
+    (handle,) = ax.plot(xy[:, 0], xy[:, 1], ls="none", marker="D", ms=5.5, mfc="white",
+                        mec="black", mew=1.1, zorder=8,
+                        label=f"{n} sharp re-entrant {what}: stress unbounded there")
+    return handle
+
+
+def _label_corners(ax, profile: Profile, corners, ppu: float, legend=None) -> bool:
+    """Label the corner markers C1, C2 ... when the labels fit; True if they did.
+
+    The labels follow the order of ``corners`` (that of the warning text)
+    and sit just outside the material, on the bisector of the notch.  When
+    labels would crowd (two corners closer than 22 points on the page) the
+    markers stay unlabelled.  With labels, the legend entry (the last one
+    of ``legend``) names them.
+    """
+    if not corners:
+        return False
+    xy = np.array([(c.x, c.y) for c in corners], dtype=float)
+    n = len(corners)
+    dist = np.hypot(xy[:, None, 0] - xy[None, :, 0], xy[:, None, 1] - xy[None, :, 1])
+    np.fill_diagonal(dist, np.inf)
+    if n > 1 and float(dist.min()) * ppu < 22.0:
+        return False
+    for i, c in enumerate(corners, start=1):
+        out = _notch_direction(profile, c)
+        # far enough along the bisector that the label's box (about 4.6 pt a
+        # character by 9 pt) clears the marker and the edges
+        text = f"C{i}"
+        off = 6.0 + 2.3 * len(text) * abs(out[0]) + 4.5 * abs(out[1])
+        ax.annotate(text, (c.x, c.y), xytext=(off * out[0], off * out[1]),
+                    textcoords="offset points", ha="center", va="center", fontsize=7.5,
+                    fontweight="bold", zorder=9,
+                    bbox={"boxstyle": "round,pad=0.15", "fc": "white", "ec": "none",
+                          "alpha": 0.85})
+    if legend is not None:
+        names = "C1" if n == 1 else f"C1–C{n}"
+        what = "corner" if n == 1 else "corners"
+        legend.get_texts()[-1].set_text(f"{names}: sharp re-entrant {what}, "
+                                        f"stress unbounded there")
+    return True
+
+
+def _notch_direction(profile: Profile, corner) -> np.ndarray:
+    """Unit vector from a re-entrant corner into the notch (away from the material)."""
+    loop = profile.loops[corner.loop]
+    i = int(np.argmin(np.hypot(loop[:, 0] - corner.x, loop[:, 1] - corner.y)))
+    d_in = loop[i] - loop[i - 1]
+    d_out = loop[(i + 1) % len(loop)] - loop[i]
+    right = [np.array([d[1], -d[0]]) / max(np.hypot(*d), 1e-300) for d in (d_in, d_out)]
+    v = right[0] + right[1]
+    norm = np.hypot(*v)
+    return v / norm if norm > 1e-12 else right[0]
+
+
+def _bottom_legend(ax, handles):
+    """Legend under the figure (constrained layout), else inside the map; None without handles."""
+    handles = [h for h in handles if h is not None]
+    if not handles:
+        return None
+    fig = ax.figure
+    engine = fig.get_layout_engine()
+    if engine is not None and type(engine).__name__ == "ConstrainedLayoutEngine":
+        return fig.legend(handles=handles, loc="outside lower center", frameon=False, fontsize=9)
+    return ax.legend(handles=handles, loc="best", fontsize=8, framealpha=0.9)
+
+
 # ------------------------------------------------------------------ pictures
-def draw_section(profile: Profile, mesh=None, ax=None):
+def draw_section(profile: Profile, mesh=None, ax=None, corners=None):
     """Draw the outline, the holes and the given points (and the mesh).
 
     Meant for checking an input before solving: material is shaded, every
-    input vertex is a dot, loops are labelled, and the title gives the area,
-    the size and the number of holes.
+    input vertex is a dot, loops are labelled, sharp re-entrant corners are
+    marked and labelled (C1, C2 ... in the order the solve warning lists
+    them), and the title gives the area, the size and the number of holes.
 
     Parameters
     ----------
@@ -188,6 +556,10 @@ def draw_section(profile: Profile, mesh=None, ax=None):
     mesh : Mesh, optional
         Drawn over the section when given.
     ax : matplotlib Axes, optional
+    corners : sequence of soapfilm.corners.Corner, optional
+        The corners to mark; by default found from the outline without
+        solving (:func:`soapfilm.corners.reentrant_corners`, the same rule
+        the solve warns by).  Pass ``()`` to mark none.
 
     Returns
     -------
@@ -196,7 +568,12 @@ def draw_section(profile: Profile, mesh=None, ax=None):
     from matplotlib.patches import PathPatch
     from matplotlib.path import Path as MplPath
 
-    ax = _new_axes(ax, _fit_size(profile, colorbar=False))
+    if corners is None:
+        from .corners import reentrant_corners
+
+        corners = reentrant_corners(profile)
+    corners = tuple(corners)
+    ax = _new_axes(ax, _fit_size(profile, colorbar=False, legend=1 if corners else 0))
     verts, codes = [], []
     for loop in profile.loops:
         verts.extend(loop.tolist() + [loop[0].tolist()])
@@ -227,16 +604,35 @@ def draw_section(profile: Profile, mesh=None, ax=None):
         ax.annotate(f"hole {k}", (c.x, c.y), ha="center", va="center", fontsize=7,
                     color="#7a1f1f", zorder=6)
     _finish_axes(ax, profile, "\n".join(lines))
+    legend = _bottom_legend(ax, [_corner_markers(ax, corners)])
+    if corners:
+        _label_corners(ax, profile, corners, _points_per_unit(ax), legend)
     return ax
 
 
 def plot_shear(result, ax=None, torque: float | None = None, stress_unit: str = "MPa",
                show_mesh: bool = False, levels: int = 12):
-    """Shear-stress magnitude map with shear-flow lines and the peak.
+    """Shear-stress magnitude map with shear-flow lines, the peak and the corners.
 
-    Colours show ``|tau|`` (viridis, from zero); white lines are contours of
-    the Prandtl stress function, along which the shear flows; the peak from
-    the result is marked and labelled with its value.
+    Colours show ``|tau|`` (viridis) from zero to the reported peak
+    (``result.max_shear_per_torque``): the top of the colour bar is that
+    value.  Where the drawn field goes beyond it - next to sharp re-entrant
+    corners, where the stress is unbounded and the peak is read a little
+    away - it is drawn in :data:`OVER_COLOUR` and the colour bar ends in an
+    arrow of that colour.  The drawn field is recovered from the element
+    gradients and differs from the peak rule by the recovery's own error;
+    the largest such excess away from the corners is taken as that error,
+    and values within it of the peak are drawn at the top colour, not as
+    beyond.
+
+    White lines are contours of the Prandtl stress function, along which the
+    shear flows, with equal shear flow between neighbours
+    (:func:`shear_flow_levels`): as many as ``levels`` when they fit, fewer
+    when the thinnest wall (:func:`wall_thickness`) is narrow on the page, so
+    that they stay :data:`MIN_LINE_GAP_PT` apart across it; their width
+    scales with that wall too.  The peak is a red dot with its value in the
+    legend; sharp re-entrant corners are white diamonds, labelled C1, C2 ...
+    in the order of the warning.
 
     Parameters
     ----------
@@ -250,58 +646,99 @@ def plot_shear(result, ax=None, torque: float | None = None, stress_unit: str = 
     show_mesh : bool
         Draw the element edges over the map.
     levels : int
-        Number of stress-function contour lines.
+        Largest number of stress-function contour lines.
 
     Returns
     -------
     matplotlib.axes.Axes
     """
+    import matplotlib
+
     scale = shear_scale(result.units, torque, stress_unit)
-    ax = _new_axes(ax, _fit_size(result.profile, colorbar=True, legend=True))
     mesh, profile = result.mesh, result.profile
+    corners = tuple(result.corners)
+    ax = _new_axes(ax, _fit_size(profile, colorbar=True, legend=1 + bool(corners)))
     t = _corner_triangles(mesh)
     tri = _triangulation(mesh.p, t)
     tau = nodal_shear(result)
     mag = np.hypot(tau[0], tau[1]) * scale.factor
     peak = result.max_shear_per_torque * scale.factor
-    top = max(float(mag.max()), peak)
-    pc = ax.tripcolor(tri, mag, shading="gouraud", cmap="viridis", vmin=0.0, vmax=top,
+    drawn, beyond = _against_peak(mesh, t, mag, peak, corners, profile.size)
+    cmap = matplotlib.colormaps["viridis"].with_extremes(over=OVER_COLOUR)
+    pc = ax.tripcolor(tri, drawn, shading="gouraud", cmap=cmap, vmin=0.0, vmax=peak,
                       rasterized=True, zorder=1)
-    phi = np.asarray(result.fields.phi)[: mesh.nnodes]  # corner nodes come first (P2)
-    if _is_wide(profile) or _is_wide(profile.transformed([[0, 1], [1, 0]])):
-        levels = min(levels, 6)  # thin strips: fewer lines, or they hide the colours
-    if np.ptp(phi) > 0 and levels > 0:
-        ax.tricontour(tri, phi, levels=np.linspace(phi.min(), phi.max(), levels + 2)[1:-1],
-                      colors="white", linewidths=0.6, alpha=0.85, zorder=2)
     if show_mesh:
         _mesh_overlay(ax, mesh.p, t, mesh.nelements)
     _outline(ax, profile)
-    _colorbar(ax, pc, scale.label(), horizontal=_is_wide(profile))
-    _mark_peak(ax, result, peak, scale)
+    label = scale.label()
+    if beyond:
+        label += "\narrow: beyond the reported peak (corners)"
+    _colorbar(ax, pc, label, horizontal=_is_wide(profile), extend="max" if beyond else "neither")
+    dot = _mark_peak(ax, result, peak, scale)
     nm = _section_name(profile)
     what = "shear stress" if torque is not None else "shear stress per unit torque"
-    _finish_axes(ax, profile, f"{nm}: {what}\nwhite lines: stress-function contours "
-                              f"(shear flows along them)")
+    _finish_axes(ax, profile, f"{nm}: {what}\n")
+    legend = _bottom_legend(ax, [dot, _corner_markers(ax, corners)])
+    ppu = _points_per_unit(ax)
+    _label_corners(ax, profile, corners, ppu, legend)
+    phi = np.asarray(result.fields.phi, dtype=float)[: mesh.nnodes]  # corner nodes first (P2)
+    chords = wall_chords(profile)
+    thick = wall_thickness(profile, chords)
+    across, span, weight, ray = _wall_profiles(profile, tri, phi, chords, corners)
+    lv = shear_flow_levels(float(phi[np.unique(t)].max()), across, span, MIN_LINE_GAP_PT / ppu,
+                           levels, weight, thin=ray <= 1.05 * thick, reach=span >= ray)
+    lw = _line_width(thick * ppu)
+    if len(lv):
+        from matplotlib.patheffects import withStroke
+
+        cs = ax.tricontour(tri, phi, levels=lv, colors="white", linewidths=lw, zorder=2)
+        # a thin dark edge keeps white lines visible on the bright end of the scale
+        cs.set_path_effects([withStroke(linewidth=lw + 0.7, foreground=(0.0, 0.0, 0.0, 0.45))])
+        how = "white lines: stress-function contours (shear flows along them)"
+    else:
+        how = f"no shear-flow lines: the {thick:.2g} {result.units} wall is too thin at this size"
+    ax.set_title(f"{nm}: {what}\n{how}", fontsize=10)
     return ax
 
 
+def _against_peak(mesh, t, mag, peak: float, corners, size: float):
+    """The field to draw against a colour scale that ends at the reported peak.
+
+    Away from the sharp corners (outside the zones the peak rule leaves
+    out, :data:`soapfilm.corners.CORNER_ZONE_FRACTION` of the size) the
+    drawn field should not exceed the peak; by how much it does is the
+    recovery's own error, and values within it are drawn at the peak.
+    Returns the field and whether anything is left beyond the peak.
+    """
+    from .corners import CORNER_ZONE_FRACTION
+
+    used = np.unique(t)
+    x, y = mesh.p[0, used], mesh.p[1, used]
+    away = np.ones(len(used), dtype=bool)
+    zone = CORNER_ZONE_FRACTION * size
+    for c in corners:
+        away &= np.hypot(x - c.x, y - c.y) > zone
+    vals = mag[used]
+    slack = float(vals[away].max()) if away.any() else peak
+    slack = max(slack, peak)
+    drawn = np.where((mag > peak) & (mag <= slack), peak, mag)
+    return drawn, bool(np.any(drawn[used] > peak))
+
+
 def _mark_peak(ax, result, peak: float, scale: ShearScale):
-    """Red dot at the peak; its value and place in a legend under the figure.
+    """Red dot at the peak; returns its legend handle (value and place).
 
     A legend (rather than a label beside the dot) never covers the map or
     the axis labels, whatever the shape of the section.
     """
     px, py = result.peak_location
     u = result.units
+    tiny = 1e-9 * result.profile.size  # rounding noise of a coordinate: written as 0
+    lx, ly = (0.0 if abs(v) < tiny else v for v in (px, py))
     (dot,) = ax.plot([px], [py], ls="none", marker="o", ms=8, mfc="#d62728", mec="white",
                      mew=1.4, zorder=7,
-                     label=f"peak {_fmt(peak)} {scale.unit} at ({px:.4g}, {py:.4g}) {u}")
-    fig = ax.figure
-    engine = fig.get_layout_engine()
-    if engine is not None and type(engine).__name__ == "ConstrainedLayoutEngine":
-        fig.legend(handles=[dot], loc="outside lower center", frameon=False, fontsize=9)
-    else:
-        ax.legend(handles=[dot], loc="best", fontsize=8, framealpha=0.9)
+                     label=f"peak {_fmt(peak)} {scale.unit} at ({lx:.4g}, {ly:.4g}) {u}")
+    return dot
 
 
 def plot_warping(result, ax=None, show_mesh: bool = False):
