@@ -85,6 +85,29 @@ def _triangulation(p, t):
     return Triangulation(p[0], p[1], np.asarray(t).T)
 
 
+#: a quadratic triangle (corners 0 1 2, mid-sides 3 = 01, 4 = 12, 5 = 20) as four linear ones
+_P2_SPLIT = np.array([[0, 3, 5], [3, 1, 4], [5, 4, 2], [3, 4, 5]])
+
+
+def _stress_function_triangulation(result):
+    """Triangulation and nodal values of the stress function, for its contours.
+
+    Quadratic fields are split into four linear triangles at their mid-side
+    nodes, so the contours follow the quadratic field at half the element
+    size (on the corner nodes alone they wander where the field is flat,
+    along the ridge of a thin wall); linear fields use the mesh as it is.
+    """
+    f = result.fields
+    phi = np.asarray(f.phi, dtype=float)
+    t6 = getattr(f, "t6", None)
+    if t6 is not None and np.shape(t6)[0] == 6 and len(phi) == np.shape(f.p)[1]:
+        t = np.asarray(t6)[_P2_SPLIT].transpose(1, 0, 2).reshape(3, -1)
+        xy = np.asarray(f.p) + np.asarray(f.origin, dtype=float).reshape(2, 1)
+        return _triangulation(xy, t), phi
+    t = _corner_triangles(result.mesh)
+    return _triangulation(result.mesh.p, t), phi[: result.mesh.nnodes]
+
+
 # ------------------------------------------------------------------- helpers
 #: width/height ratio above which the colour bar goes under the map
 _WIDE = 2.2
@@ -361,9 +384,10 @@ def shear_flow_levels(phi_max: float, across: np.ndarray, span: np.ndarray, min_
 
     ``first`` is ``step`` (from zero, the even split) unless the lines then
     miss most of the thinnest walls (chords marked ``thin``) and a first
-    level between ``step / 2`` and ``step`` crosses more of them: a thin
-    open wall (an I beam's web) whose ridge is below one step would
-    otherwise show no line.
+    level between ``step / 2`` and ``step`` crosses more of them - the one
+    nearest half those walls' ridge, which puts the pair of lines midway
+    between faces and ridge: a thin open wall (an I beam's web) whose ridge
+    is below one step would otherwise show no line.
 
     Parameters
     ----------
@@ -434,10 +458,14 @@ def shear_flow_levels(phi_max: float, across: np.ndarray, span: np.ndarray, min_
         crossed = np.isfinite(first) & thin
         return float(weight[ok].sum()), float(crossed.sum() / max(thin.sum(), 1))
 
+    thin_ridges = ridge[thin & np.isfinite(ridge)]
+    aim = 0.5 * float(np.median(thin_ridges)) if len(thin_ridges) else 0.0
     for n in range(max_lines, 0, -1):
         step = phi_max / (n + 1)
         best, best_cover = None, -1.0
-        for first in np.linspace(step, 0.5 * step, 9):  # the even split first
+        shifted = np.linspace(step, 0.5 * step, 9)[1:]
+        # the even split first, then first levels nearest half the thin walls' ridge
+        for first in [step, *shifted[np.argsort(np.abs(shifted - aim), kind="stable")]]:
             levels = first + step * np.arange(n)
             share, cover = check(levels)
             if share < 1.0 - _OUTLIER_SHARE - 1e-12:
@@ -681,17 +709,17 @@ def plot_shear(result, ax=None, torque: float | None = None, stress_unit: str = 
     legend = _bottom_legend(ax, [dot, _corner_markers(ax, corners)])
     ppu = _points_per_unit(ax)
     _label_corners(ax, profile, corners, ppu, legend)
-    phi = np.asarray(result.fields.phi, dtype=float)[: mesh.nnodes]  # corner nodes first (P2)
+    ftri, phi = _stress_function_triangulation(result)
     chords = wall_chords(profile)
     thick = wall_thickness(profile, chords)
-    across, span, weight, ray = _wall_profiles(profile, tri, phi, chords, corners)
-    lv = shear_flow_levels(float(phi[np.unique(t)].max()), across, span, MIN_LINE_GAP_PT / ppu,
+    across, span, weight, ray = _wall_profiles(profile, ftri, phi, chords, corners)
+    lv = shear_flow_levels(float(phi.max()), across, span, MIN_LINE_GAP_PT / ppu,
                            levels, weight, thin=ray <= 1.05 * thick, reach=span >= ray)
     lw = _line_width(thick * ppu)
     if len(lv):
         from matplotlib.patheffects import withStroke
 
-        cs = ax.tricontour(tri, phi, levels=lv, colors="white", linewidths=lw, zorder=2)
+        cs = ax.tricontour(ftri, phi, levels=lv, colors="white", linewidths=lw, zorder=2)
         # a thin dark edge keeps white lines visible on the bright end of the scale
         cs.set_path_effects([withStroke(linewidth=lw + 0.7, foreground=(0.0, 0.0, 0.0, 0.45))])
         how = "white lines: stress-function contours (shear flows along them)"
