@@ -98,7 +98,7 @@ def test_check_us_display_and_preset(square, capsys, monkeypatch):
     [
         (["--torque", "250 mm", "--length", "1 m", "--material", "steel"],
          "'250 mm' is a length, but a torque is expected"),
-        (["--torque", "250 furlongs", "--length", "1 m", "--material", "steel"], "unknown unit"),
+        (["--torque", "250 blorbs", "--length", "1 m", "--material", "steel"], "unknown unit"),
         (["--torque", "250 N*m", "--length", "1 m"], "no material"),
         (["--torque", "250 N*m", "--length", "1 m", "--material", "steel",
           "--allowable-shear", "100 MPa", "--yield", "300 MPa"], "cannot be combined"),

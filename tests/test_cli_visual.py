@@ -102,7 +102,7 @@ def test_json_to_stdout_stays_clean_with_outputs(tmp_path, box, capsys):
     (["--mesh-out", "{tmp}/m.xyz"], "cannot tell the mesh format"),
     (["--plot-mesh"], "needs --plot"),
     (["--plot", "{tmp}/ok.png", "--torque", "-4"], "torque must be a positive"),
-    (["--plot", "{tmp}/ok.png", "--torque", "nan"], "torque must be a positive"),
+    (["--plot", "{tmp}/ok.png", "--torque", "nan"], "is not a finite value"),
 ])
 def test_solve_bad_outputs_exit_2_before_work(tmp_path, box, capsys, args, message):
     args = [a.format(tmp=tmp_path) for a in args]

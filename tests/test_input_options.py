@@ -253,3 +253,25 @@ def test_any_scale_meshes(tmp_path, side):
                  "--tol", "1e-3"]) == 0
     j = json.loads(out.read_text())["torsion_constant"]
     assert j == pytest.approx(0.1405770 * side**4, rel=1e-4)
+
+
+@pytest.mark.parametrize("argv", [["--version"], ["--help"], ["solve", "--help"],
+                                  ["check", "--help"], ["shaft", "--help"], ["show", "--help"],
+                                  ["batch", "--help"], ["sweep", "--help"],
+                                  ["shapes", "--help"]])
+def test_help_imports_no_scientific_stack(argv):
+    """--help and --version answer from the standard library alone (the start-up time
+    itself is measured in tests/bench/bench_startup.py, not here)."""
+    import subprocess
+    import sys
+
+    heavy = ("numpy", "scipy", "shapely", "matplotlib", "pint", "triangle", "ezdxf", "rich")
+    code = (f"import sys, runpy\nsys.argv = ['soapfilm', *{argv!r}]\n"
+            "try:\n    runpy.run_module('soapfilm', run_name='__main__')\n"
+            "except SystemExit:\n    pass\n"
+            f"print('HEAVY:' + ' '.join(m for m in {heavy!r} if m in sys.modules), "
+            "file=sys.stderr)")
+    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                          timeout=120)
+    line = [ln for ln in done.stderr.splitlines() if ln.startswith("HEAVY:")][-1]
+    assert line == "HEAVY:", line

@@ -34,20 +34,24 @@ def timed(argv: list[str], runs: int = 7) -> list[float]:
 
 
 def heavy_imports(argv: list[str]) -> list[str]:
-    code = ("import sys, runpy\nsys.argv = ['soapfilm', *%r]\n"
+    code = (f"import sys, runpy\nsys.argv = ['soapfilm', *{argv!r}]\n"
             "try:\n    runpy.run_module('soapfilm', run_name='__main__')\n"
             "except SystemExit:\n    pass\n"
-            "print(' '.join(sorted(m for m in %r if m in sys.modules)))" % (argv, HEAVY))
+            f"print('HEAVY:' + ' '.join(sorted(m for m in {HEAVY!r} if m in sys.modules)), "
+            "file=sys.stderr)")
     done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True)
-    return done.stdout.strip().splitlines()[-1:] or [""]
+    lines = [ln for ln in done.stderr.splitlines() if ln.startswith("HEAVY:")]
+    return [lines[-1].removeprefix("HEAVY:") if lines else "?"]
 
 
 def main() -> None:
-    base = timed(["-c", "pass"][:0] or ["--version"], 1)  # warm the file cache
-    del base
-    t0 = statistics.median(
-        [(lambda s: (subprocess.run([sys.executable, "-c", "pass"]), time.perf_counter() - s)[1])
-         (time.perf_counter()) for _ in range(7)])
+    timed(["--version"], 1)  # warm the file cache
+    bare = []
+    for _ in range(7):
+        start = time.perf_counter()
+        subprocess.run([sys.executable, "-c", "pass"], check=False)
+        bare.append(time.perf_counter() - start)
+    t0 = statistics.median(bare)
     print(f"bare interpreter start: {t0 * 1000:.0f} ms (median of 7)\n")
     print("| command | median [ms] | min-max [ms] | heavy modules imported |")
     print("| --- | ---: | ---: | --- |")

@@ -3,14 +3,17 @@
 from __future__ import annotations
 
 import argparse
+from typing import TYPE_CHECKING
 
 from ..defaults import CAUTION
 from ..errors import InputError
 from ..materials import Allowable, Material, criterion_key, material
-from ..shaft import DEFAULT_TWIST_LIMIT, TWIST_LIMIT_NOTE, Section, SectionCheck, check_section
 from ..units import UnitSystem, parse_number, parse_positive, parse_quantity, unit_system
 from ._inputs import add_input_args, input_options
 from ._io import check_outputs_apart, check_writable, console, write_atomic, write_json
+
+if TYPE_CHECKING:  # the mechanics are imported when a check runs, not for --help
+    from ..shaft import Section, SectionCheck
 
 NAME = "check"
 HELP = "check a bar section under a torque: peak shear, twist, stiffness, pass or fail"
@@ -144,8 +147,10 @@ def resolve_material(args) -> Material:
     return Material("user", "user material", g, None, "--shear-modulus", "not given")
 
 
-def check_json(res: SectionCheck, mat: Material, twist_note: str = TWIST_LIMIT_NOTE) -> dict:
+def check_json(res: SectionCheck, mat: Material, twist_note: str | None = None) -> dict:
     """The check in SI base units (README, "JSON output", ``check``)."""
+    if twist_note is None:
+        from ..shaft import TWIST_LIMIT_NOTE as twist_note
     out = {
         "units": "SI base units (m, N*m, Pa, rad)",
         "section": section_json(res.section, res.nominal_diameter),
@@ -256,6 +261,7 @@ def run(args) -> int:
     nominal = parse_positive(args.nominal_diameter, "length", "--nominal-diameter")
     mat = resolve_material(args)
     opts = parse_allowable_args(args)
+    from ..shaft import DEFAULT_TWIST_LIMIT, TWIST_LIMIT_NOTE
     from ..shaftfile import SectionSource, resolve_allowable
 
     allowable = resolve_allowable(
@@ -279,7 +285,7 @@ def finish(args, section, fe_result, torque, length, mat, allowable, twist_limit
     """Check, print, write the JSON and the report; the exit status (3: the check failed)."""
     from ..errors import EXIT_CHECK_FAILED
     from ..report.checks import section_check_view
-    from ..shaft import DEFAULT_TWIST_BASIS
+    from ..shaft import DEFAULT_TWIST_BASIS, check_section
     from ..shaftfile import twist_basis_of
 
     rule = getattr(args, "twist_rule", None)

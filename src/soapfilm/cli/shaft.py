@@ -3,10 +3,10 @@
 from __future__ import annotations
 
 import argparse
+from typing import TYPE_CHECKING
 
 from ..defaults import CAUTION
 from ..errors import InputError
-from ..shaft import ShaftResult, analyse_shaft
 from ..units import UnitSystem, parse_positive
 from ._inputs import add_input_args, input_options
 from ._io import check_outputs_apart, check_writable, console, write_atomic, write_json
@@ -17,6 +17,9 @@ from .check import (
     section_json,
     system_of,
 )
+
+if TYPE_CHECKING:  # the mechanics are imported when a shaft runs, not for --help
+    from ..shaft import ShaftResult
 
 NAME = "shaft"
 HELP = "check a stepped shaft from a shaft file: internal torque, stress, twist, stiffness"
@@ -207,6 +210,8 @@ def run(args) -> int:
                            twist_basis=None if args.twist_limit is None
                            else twist_basis_of(args.twist_limit))
     model = read_shaft(args.file, options, SectionSource(options=input_options(args)))
+    from ..shaft import analyse_shaft
+
     try:
         res = analyse_shaft(model)
     except InputError as exc:
