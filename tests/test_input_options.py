@@ -275,3 +275,21 @@ def test_help_imports_no_scientific_stack(argv):
                           timeout=120)
     line = [ln for ln in done.stderr.splitlines() if ln.startswith("HEAVY:")][-1]
     assert line == "HEAVY:", line
+
+
+def test_reader_leaving_the_pipe_early(tmp_path):
+    """`soapfilm solve ... --json o.json | head -3`: the file is written and the status
+    is 0, although the table could not be printed whole."""
+    import subprocess
+    import sys
+    from pathlib import Path
+
+    hexfile = Path(__file__).resolve().parents[1] / "shapes" / "hex-drive.toml"
+    out = tmp_path / "o.json"
+    proc = subprocess.Popen([sys.executable, "-m", "soapfilm", "solve", str(hexfile), "--json",
+                             str(out)], stdout=subprocess.PIPE, stderr=subprocess.PIPE)
+    proc.stdout.close()  # the reader goes away before the table is printed
+    err = proc.stderr.read().decode()
+    assert proc.wait(timeout=300) == 0, err
+    assert "error" not in err
+    assert json.loads(out.read_text())["torsion_constant"] > 0

@@ -92,7 +92,11 @@ def console(quiet: bool = False, stderr: bool = False):
         return None
     from rich.console import Console
 
-    return Console(stderr=stderr, highlight=False)
+    class _Console(Console):
+        def on_broken_pipe(self) -> None:  # rich exits 1 here; let main() decide
+            raise BrokenPipeError
+
+    return _Console(stderr=stderr, highlight=False)
 
 
 # --------------------------------------------------------------------- progress
