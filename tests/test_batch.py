@@ -242,7 +242,7 @@ def test_cli_sweep_writes_csv_and_json_and_exits_1_on_failed_rows(rect_file, tmp
     code = main(["sweep", str(rect_file), "--vary", "width=0.5:1.5:2", "--vary", "corner_radius=0,0.4",
                  "--mesh-size", "0.1", "--jobs", "1", "--csv", str(out), "--json", str(js),
                  "--quiet"])
-    assert code == 1
+    assert code == 4  # EXIT_ROWS_FAILED
     err = capsys.readouterr().err.strip().splitlines()
     assert len(err) == 1 and "1 of 4 sections failed" in err[0]
     with open(out, newline="") as fh:

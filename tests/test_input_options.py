@@ -90,8 +90,8 @@ def test_dxf_hints_name_options_the_command_has(command, case, tmp_path, capsys)
     code = main(args)
     out = capsys.readouterr()
     text = out.err + out.out
-    if command == "batch":  # a batch goes on: the row carries the error, status 1
-        assert code == 1
+    if command == "batch":  # a batch goes on: the row carries the error, status 4
+        assert code == 4  # EXIT_ROWS_FAILED
     else:
         assert code == 2, text
     named = set(HINTED.findall(text.split("(", 1)[-1])) - {"--debug"}

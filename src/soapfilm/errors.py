@@ -51,6 +51,9 @@ class SolveError(SoapfilmError):
     """The numerical solution failed or could not reach what was asked."""
 
 
-#: exit status of a check that ran and failed (a batch with failed rows too);
-#: distinct from 1 (internal error) and 2 (user error)
+#: exit status of a check that ran and failed; distinct from 1 (internal error)
+#: and 2 (user error)
 EXIT_CHECK_FAILED = 3
+#: exit status of a batch or sweep in which some sections failed (their rows carry
+#: the error; the others are written)
+EXIT_ROWS_FAILED = 4

@@ -13,7 +13,7 @@ import importlib
 import logging
 import sys
 
-from ..errors import EXIT_CHECK_FAILED, SoapfilmError
+from ..errors import EXIT_CHECK_FAILED, EXIT_ROWS_FAILED, SoapfilmError
 
 __all__ = ["main", "SUBCOMMANDS"]
 
@@ -28,7 +28,8 @@ class _Parser(argparse.ArgumentParser):
 
 _EPILOG = ("exit status: 0 done (a check passed), 1 internal error (a bug: rerun with "
            "--debug), 2 user error (one line on stderr; nothing written), "
-           f"{EXIT_CHECK_FAILED} a check ran and failed (or a batch row failed). "
+           f"{EXIT_CHECK_FAILED} a check ran and failed, {EXIT_ROWS_FAILED} some sections of a "
+           "batch or sweep failed. "
            "Units: a value with its unit is taken as given; a bare number is in N*m, mm, MPa, "
            "GPa or deg/m; mesh size and join tolerance bare are in the drawing's unit.")
 

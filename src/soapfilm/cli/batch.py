@@ -1,6 +1,6 @@
 """``soapfilm batch``: torsion properties of many section files, in parallel.
 
-Exit status: 0 when every section was analysed, 1 when some failed (their
+Exit status: 0 when every section was analysed, 4 when some failed (their
 rows carry the error message and are written with the others), 2 for bad
 input (nothing is run and no file is written).  The helpers here are shared
 with ``soapfilm sweep``.
@@ -14,7 +14,7 @@ import sys
 from pathlib import Path
 
 from ..defaults import CAUTION
-from ..errors import InputError
+from ..errors import EXIT_ROWS_FAILED, InputError
 from ._inputs import add_input_args, input_options
 from ._io import check_outputs_apart, check_writable, console, write_atomic, write_json
 
@@ -165,7 +165,7 @@ def finish(args, rows: list[dict], title: str, unit: str | None = None, input_un
         print(f"soapfilm: {len(failed)} of {len(rows)} sections failed; the table and output "
               f"files give each error; the first, {first['label']}: {first['error']}",
               file=sys.stderr)
-        return 1
+        return EXIT_ROWS_FAILED
     return 0
 # --- end shared ----------------------------------------------------------------
 
