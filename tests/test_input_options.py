@@ -293,3 +293,30 @@ def test_reader_leaving_the_pipe_early(tmp_path):
     assert proc.wait(timeout=300) == 0, err
     assert "error" not in err
     assert json.loads(out.read_text())["torsion_constant"] > 0
+
+
+@pytest.mark.parametrize("command", ["solve", "check", "batch-csv", "batch-json", "sweep"])
+def test_no_output_overwrites_the_input(tmp_path, capsys, command):
+    sq = _square(tmp_path, 20.0)
+    before = sq.read_text()
+    shape = tmp_path / "bar.toml"
+    shape.write_text('[section]\nkind = "rectangle"\nwidth = 20\nheight = 10\n')
+    shape_text = shape.read_text()
+    argv = {
+        "solve": ["solve", str(sq), "--json", str(sq)],
+        "check": ["check", str(sq), "--torque", "1", "--length", "1", "--material",
+                  "bronze", "--json", str(sq)],
+        "batch-csv": ["batch", str(sq), "--csv", str(sq)],
+        "batch-json": ["batch", str(sq), "--json", str(sq)],
+        "sweep": ["sweep", str(shape), "--vary", "height=5,6", "--json", str(shape)],
+    }[command]
+    assert main(argv) == 2
+    assert "would overwrite the input file" in capsys.readouterr().err
+    assert sq.read_text() == before and shape.read_text() == shape_text
+
+
+def test_sweep_refuses_drawing_options(tmp_path, capsys):
+    shape = tmp_path / "bar.toml"
+    shape.write_text('[section]\nkind = "rectangle"\nwidth = 20\nheight = 10\n')
+    assert main(["sweep", str(shape), "--vary", "height=5,6", "--layer", "A"]) == 2
+    assert "keys layer and join_tolerance" in capsys.readouterr().err

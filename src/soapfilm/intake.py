@@ -32,8 +32,8 @@ from .defaults import DEFAULT_MAX_ELEMENTS, DEFAULT_ORDER, DEFAULT_TOL, LENGTH_U
 from .errors import InputError
 from .units import DrawingLength, parse_drawing_length
 
-__all__ = ["SectionOptions", "read_input", "analyse_options", "solve_input", "scale_note",
-           "PLAUSIBLE_SIZE_MM"]
+__all__ = ["SectionOptions", "read_input", "refuse_drawing_options", "analyse_options",
+           "solve_input", "scale_note", "PLAUSIBLE_SIZE_MM"]
 
 #: Overall sizes of bar sections met in machine and structural design, in mm:
 #: a section drawn with an assumed unit and coming out outside this range was
@@ -114,6 +114,18 @@ def scale_note(profile) -> str | None:
             f"a bar section: if the numbers are in another unit give {hint}")
 
 
+def refuse_drawing_options(path, opts: SectionOptions) -> None:
+    """A shape file takes no --layer or --join-tolerance: its own keys name them."""
+    for key, value in opts.reader_options().items():
+        if value is not None:
+            flag = "--layer" if key == "layers" else "--join-tolerance"
+            raise InputError(f"{flag} applies to DXF drawings, not to a shape file",
+                             where=str(path),
+                             fix=f"drop {flag}; a shape file names a drawing's layer and join "
+                                 "tolerance with the keys layer and join_tolerance next to "
+                                 "file = ...")
+
+
 def read_input(path, opts: SectionOptions | None = None):
     """Read a section file with the options; return ``(profile, settings)``.
 
@@ -130,14 +142,7 @@ def read_input(path, opts: SectionOptions | None = None):
     opts = opts or SectionOptions()
     path = Path(path)
     if path.suffix.lower() == ".toml" and path.is_file():
-        for key, value in opts.reader_options().items():
-            if value is not None:
-                flag = "--layer" if key == "layers" else "--join-tolerance"
-                raise InputError(f"{flag} applies to DXF drawings, not to a shape file",
-                                 where=str(path),
-                                 fix=f"drop {flag}; a shape file names a drawing's layer and join "
-                                     "tolerance with the keys layer and join_tolerance next to "
-                                     "file = ...")
+        refuse_drawing_options(path, opts)
         sf = load_shapefile(path, opts.units)
         profile, settings = sf.profile, dict(sf.settings)
     else:

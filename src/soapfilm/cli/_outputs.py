@@ -59,10 +59,13 @@ def check_outputs(args) -> None:
     if args.torque is not None:
         shear_scale("mm", args.torque, args.stress_unit)  # validates the numbers
     seen: dict[str, str] = {}
+    src = same_file(args.input)
     json_out = getattr(args, "json", None)
     if json_out and json_out != "-":
+        if same_file(json_out) == src:
+            raise InputError("would overwrite the input file", where=f"--json {json_out}",
+                             fix="choose another output name")
         seen[same_file(json_out)] = "--json"
-    src = same_file(args.input)
     for option, dest in _FILE_OPTIONS:
         out = getattr(args, dest, None)
         if not out:

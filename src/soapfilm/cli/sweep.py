@@ -32,6 +32,11 @@ def run(args) -> int:
 
     check_run_args(args)
     check_outputs_apart([args.shape_file], [("--csv", args.csv), ("--json", args.json)])
+    from pathlib import Path
+
+    from ..intake import refuse_drawing_options
+
+    refuse_drawing_options(Path(args.shape_file), args.section_options)
     vary = [parse_vary(spec) for spec in args.vary]
     plan = plan_sweep(args.shape_file, vary, args.units)
     jobs = plan.jobs(job_options(args))
