@@ -43,6 +43,12 @@ class CheckRow:
         return (self.what, self.value, self.limit, self.utilisation, self.basis)
 
 
+def _headline(passed: bool, utilisation: float, governs: str) -> str:
+    """``PASS: utilisation 0.454 (1 or less passes), governed by ...``"""
+    return (f"{'PASS' if passed else 'FAIL'}: utilisation {utilisation:.3f} (1 or less passes), "
+            f"{governs}")
+
+
 @dataclass(frozen=True)
 class CheckView:
     """A check ready to show: headline, check rows, inputs with sources."""
@@ -168,8 +174,7 @@ def section_check_view(res: SectionCheck, mat, sys: UnitSystem, *, twist_note: s
                f"the allowable {f(a.value, 'stress')}")
     else:
         gov = f"governed by the twist, {twist.value} against {twist.limit}"
-    headline = (f"{'PASS' if res.passed else 'FAIL'}: utilisation {res.utilisation:.3f} "
-                f"(1 or less passes), {gov}")
+    headline = _headline(res.passed, res.utilisation, gov)
     inputs = [
         ("Section file", section_file or sec.name, ""),
         ("Torque T", f(res.torque, "torque"), src["torque"]),
@@ -343,8 +348,7 @@ def shaft_check_view(res: ShaftResult, sys: UnitSystem, *, sources: dict | None 
                f"{f(gs.max_shear_stress, 'stress')} against {f(gs.segment.allowable.value, 'stress')}")
     else:
         gov = f"governed by {twist_gov}"
-    headline = (f"{'PASS' if res.passed else 'FAIL'}: utilisation {res.utilisation:.3f} "
-                f"(1 or less passes), {gov}")
+    headline = _headline(res.passed, res.utilisation, gov)
 
     inputs = [("Shaft file", shaft_file or m.name, ""),
               ("Segments", str(len(m.segments)), f"length {f(m.length, 'length')}"),
