@@ -38,11 +38,13 @@ def run(args) -> int:
 
     mesh = None
     if is_mesh_file(args.input):
-        from ..intake import solve_input
         from ..readers.meshfile import read_mesh_file
 
-        if args.tol is not None or opts.mesh_size is not None:
-            solve_input(args.input, opts)  # refuses --mesh-size and friends with the reason
+        for name, value in (("--mesh-size", opts.mesh_size), ("--tol", opts.tol),
+                            ("--layer", opts.layers), ("--join-tolerance", opts.join_tolerance)):
+            if value is not None:
+                raise InputError(f"{name} does not apply to a mesh file, which is drawn as given",
+                                 where=args.input, fix=f"drop {name}")
         profile, file_mesh = read_mesh_file(args.input, opts.units)
         mesh = file_mesh if args.mesh else None
     else:

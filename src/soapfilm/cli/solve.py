@@ -53,6 +53,7 @@ def run(args) -> int:
     _outputs.check_outputs(args)  # every output path checked before solving
     quiet = args.quiet or args.json == "-"
 
+    from ..defaults import DEFAULT_TOL
     from ..intake import solve_input
 
     with progress("refining", quiet=quiet) as bar:
@@ -70,8 +71,8 @@ def run(args) -> int:
               "mesh": ("as given in the file" if is_mesh_file(args.input)
                        else f"element size {opts.mesh_size}" if opts.mesh_size
                        else "default size (from the section)"),
-              "accuracy": ("one solve on that mesh" if opts.mesh_size and opts.tol is None
-                           else f"tol {opts.tol or 1e-3:g}"),
+              "accuracy": ("one solve on that mesh" if result.converged is None
+                           else f"adaptive to tol {opts.tol or DEFAULT_TOL:g}"),
               "element order": str(opts.order)}
     written = _outputs.write_outputs(args, result, inputs=inputs, extra=extra)
     if args.json == "-":
