@@ -7,6 +7,7 @@ tolerance (see :mod:`soapfilm.adapt`).
 
 from __future__ import annotations
 
+import functools
 import logging
 from dataclasses import dataclass, field
 
@@ -20,6 +21,7 @@ from .corners import (
     reentrant_corners,
     traced_runs,
 )
+from .fem.linsolve import one_blas_thread
 from .fem.torsion import (
     TorsionFields,
     boundary_corner_nodes,
@@ -64,6 +66,22 @@ class Peak:
     candidate_error: np.ndarray = field(default_factory=lambda: np.zeros(0))
     traced: TracedRun | None = None  # the traced curve the peak sits on (polygons only)
     traced_effect: float = 0.0  # how much the polygon's points may move the peak there
+
+
+def _repeatable(func):
+    """Run ``func`` with BLAS on one thread: the same bits whatever the machine's threads.
+
+    Dot products and matrix products sum in an order that depends on the BLAS
+    thread count; held to one, a section gives bit-identical results in this
+    process, in a batch's worker processes and on any machine with the same
+    libraries (README, "JSON output": results are repeatable).
+    """
+    @functools.wraps(func)
+    def wrapper(*args, **kwargs):
+        with one_blas_thread():
+            return func(*args, **kwargs)
+
+    return wrapper
 
 
 def solve_fields(mesh: Mesh, order: int = 1, method: str = "auto") -> TorsionFields:
@@ -258,6 +276,7 @@ def bounds_warnings(fields: TorsionFields) -> list[str]:
             "mesh to bracket the drawn curve (use --tol to refine, or a smaller --mesh-size)"]
 
 
+@_repeatable
 def result_from_mesh(
     profile: Profile,
     mesh: Mesh,
@@ -315,6 +334,7 @@ def result_from_mesh(
     )
 
 
+@_repeatable
 def analyse(
     profile: Profile,
     mesh_size: float | None = None,

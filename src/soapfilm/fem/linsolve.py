@@ -8,6 +8,7 @@ in ``tests/bench/bench_core.py``; DEVELOPERS.md records the figures.
 
 from __future__ import annotations
 
+import contextlib
 import logging
 
 import numpy as np
@@ -16,12 +17,48 @@ import scipy.sparse.linalg as spla
 
 from ..errors import SolveError
 
-__all__ = ["solve_spd", "DIRECT_LIMIT"]
+__all__ = ["solve_spd", "DIRECT_LIMIT", "one_blas_thread", "fixed_random_state", "AMG_SEED"]
 
 log = logging.getLogger(__name__)
 
 #: Unknowns above which AMG-preconditioned CG is used instead of SuperLU.
 DIRECT_LIMIT = 20_000
+
+#: Seed of the random start vector pyamg draws (from numpy's global generator) to
+#: estimate the spectral radius for its Jacobi-smoothed prolongation: fixed, so that
+#: the same matrix gives the same preconditioner and the same bits on every run.
+AMG_SEED = 20_240_611
+
+
+@contextlib.contextmanager
+def fixed_random_state(seed: int = AMG_SEED):
+    """Seed numpy's global generator for a block, then give the caller's state back.
+
+    pyamg's set-up draws from ``np.random`` without a seed
+    (``pyamg.util.linalg.approximate_spectral_radius``): without this, two runs
+    of the same section differ in the last digits once AMG is used.
+    """
+    state = np.random.get_state()
+    np.random.seed(seed)
+    try:
+        yield
+    finally:
+        np.random.set_state(state)
+
+
+def one_blas_thread():
+    """Context holding BLAS to one thread: reductions then sum in one fixed order.
+
+    A multithreaded dot product splits its sum by thread count, so the last
+    digits would depend on the number of cores, on ``OPENBLAS_NUM_THREADS``
+    and on whether a batch runs in worker processes (one thread each) or in
+    this one (measured: up to 2e-14 apart).  The solves already ran on one
+    thread for speed (see :func:`solve_spd`); the whole analysis now does
+    (``soapfilm.solve.analyse`` and ``result_from_mesh``).
+    """
+    from threadpoolctl import threadpool_limits
+
+    return threadpool_limits(limits=1, user_api="blas")
 
 
 def solve_spd(a: sp.spmatrix, b: np.ndarray, method: str = "auto", rtol: float = 1e-8):
@@ -32,9 +69,7 @@ def solve_spd(a: sp.spmatrix, b: np.ndarray, method: str = "auto", rtol: float =
     machine that overhead made AMG-CG ten times slower (measured: 2.2 s
     against 0.18 s for 17k unknowns).
     """
-    from threadpoolctl import threadpool_limits
-
-    with threadpool_limits(limits=1, user_api="blas"):
+    with one_blas_thread():
         return _solve_spd(a, b, method, rtol)
 
 
@@ -68,10 +103,11 @@ def _solve_spd(a: sp.spmatrix, b: np.ndarray, method: str, rtol: float):
 
     # Jacobi-smoothed prolongation without candidate improvement: the cheapest set-up
     # that kept the iteration count (21 at 1e-8 on a million elements, bench_core.py)
-    ml = pyamg.smoothed_aggregation_solver(
-        a, symmetry="hermitian", max_coarse=500, improve_candidates=None,
-        smooth=("jacobi", {"omega": 4.0 / 3.0}),
-    )
+    with fixed_random_state():
+        ml = pyamg.smoothed_aggregation_solver(
+            a, symmetry="hermitian", max_coarse=500, improve_candidates=None,
+            smooth=("jacobi", {"omega": 4.0 / 3.0}),
+        )
     cols = b.reshape(n, -1)
     out = np.empty_like(cols, dtype=np.float64)
     for j in range(cols.shape[1]):

@@ -69,7 +69,7 @@ from ..errors import SolveError
 from ..geometry.curves import Circle, Curve, Ellipse, Involute, Moved, edge_params
 from ..mesh import Mesh
 from . import p1
-from .linsolve import solve_spd
+from .linsolve import fixed_random_state, one_blas_thread, solve_spd
 from .torsion import stress_function_system
 
 __all__ = [
@@ -712,9 +712,7 @@ def solve_torsion_p2(mesh: Mesh, method: str = "auto", nodes: P2Nodes | None = N
 
 def _solve_amg(a, a_pre, b, rtol: float = 1e-9) -> np.ndarray:
     """CG on ``a`` preconditioned with AMG of ``a_pre``, BLAS on one thread (see linsolve)."""
-    from threadpoolctl import threadpool_limits
-
-    with threadpool_limits(limits=1, user_api="blas"):
+    with one_blas_thread():
         return _solve_amg_inner(a, a_pre, b, rtol)
 
 
@@ -731,7 +729,8 @@ def _solve_amg_inner(a, a_pre, b, rtol: float) -> np.ndarray:
     bn = float(np.linalg.norm(b))
     if bn == 0.0:
         return np.zeros_like(b)
-    ml = pyamg.smoothed_aggregation_solver(a_pre, symmetry="hermitian", max_coarse=500)
+    with fixed_random_state():  # pyamg's random start vector: the same bits every run
+        ml = pyamg.smoothed_aggregation_solver(a_pre, symmetry="hermitian", max_coarse=500)
     res: list[float] = []
     x, _ = cg(a, b, tol=rtol, maxiter=400, M=ml.aspreconditioner(), residuals=res)
     rel = float(np.linalg.norm(b - a @ x)) / bn
