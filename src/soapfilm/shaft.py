@@ -62,6 +62,8 @@ __all__ = [
     "TWIST_LIMIT_NOTE",
     "TWIST_RULES",
     "kts_basis_text",
+    "check_nominal_diameter",
+    "NOMINAL_RATIO",
 ]
 
 #: Default twist-per-length limit, rad/m: 0.25 deg/m for machine shafts.
@@ -165,6 +167,33 @@ def kts_basis_text(d: float, bore: float | None, fmt) -> str:
         return (f"tau_max / (16 T d / (pi (d^4 - d_i^4))), d = {fmt(d)}, "
                 f"d_i = {fmt(bore)}")
     return f"tau_max / (16 T / (pi d^3)), d = {fmt(d)}"
+
+
+#: how far a nominal diameter may be from the section's own size (its d_tau, the round
+#: bar of the same peak stress) before a Kts based on it is refused.  For a solid base
+#: d / d_tau = Kts^(1/3): a keyed shaft (Kts about 2) 1.3, a Kts of 1000 only reaches 10;
+#: a thin tube (d/t = 100) is 2.3 d_tau (closed forms of J and Wt).  A factor of 10 is a
+#: unit slip (mm for m, in for mm) or a typing error
+NOMINAL_RATIO = 10.0
+
+
+def check_nominal_diameter(section: Section, d: float | None, where: str) -> None:
+    """Refuse a nominal diameter that cannot be the round base of ``section`` (m).
+
+    Kts = tau_max / (16 T / (pi d^3)) goes with the cube of ``d``: a diameter a
+    thousand times too small gives a Kts of 1e-9 that prints as 0.
+    """
+    if d is None:
+        return
+    d_tau = section.equivalent_diameter_strength
+    if not (d > 0 and math.isfinite(d)):
+        raise InputError(f"the nominal diameter must be positive, got {d:g} m", where=where)
+    if not (d_tau / NOMINAL_RATIO <= d <= d_tau * NOMINAL_RATIO):
+        raise InputError(
+            f"a nominal diameter of {d * 1e3:g} mm is not the size of this section (a round bar "
+            f"of the same peak stress is {d_tau * 1e3:.4g} mm across): a Kts based on it would "
+            "mean nothing", where=where,
+            fix="give the diameter of the round bar the stress raiser is cut into, with its unit")
 
 
 def round_section(diameter: float, bore: float = 0.0, name: str = "") -> Section:

@@ -35,6 +35,7 @@ from .shaft import (
     Segment,
     ShaftModel,
     Support,
+    check_nominal_diameter,
     nominal_diameter_hint,
     round_section,
     section_from_result,
@@ -46,25 +47,60 @@ __all__ = ["SectionSource", "CheckOptions", "read_shaft", "shaft_from_dict", "re
 
 log = logging.getLogger(__name__)
 
-_TOP_KEYS = {"name", "description", "twist_limit", "twist_rule", "section_units", "check",
-             "materials", "segment", "load", "support"}
-_CHECK_KEYS = {"material", "allowable_shear", "yield_strength", "criterion", "safety_factor"}
-_MATERIAL_KEYS = {"based_on", "label", "shear_modulus", "yield_strength"}
-_SEGMENT_KEYS = {"name", "length", "section", "material", "shear_modulus", "yield_strength",
-                 "allowable_shear"}
-_SECTION_KEYS = {"diameter", "bore", "file", "outline", "holes", "units", "nominal_diameter",
-                 "mesh_size", "layer", "join_tolerance"}
-_LOAD_KEYS = {"name", "at", "torque"}
-_SUPPORT_KEYS = {"name", "at"}
+# Each key of a shaft file and the TOML types it takes: a key of another type is
+# refused with one line naming it.  QUANTITY: text with a unit, or a bare number by the
+# one unit rule; TEXT: a string; TABLE: a table; ARRAY: an array (of tables, of points).
+_TEXT = (str,)
+_NUMBER = (int, float)
+_QUANTITY = (str, int, float)
+_TABLE = (dict,)
+_ARRAY = (list,)
+_TOP_KEYS = {"name": _TEXT, "description": _TEXT, "twist_limit": _QUANTITY,
+             "twist_rule": _TEXT, "section_units": _TEXT, "check": _TABLE, "materials": _TABLE,
+             "segment": _ARRAY, "load": _ARRAY + _TABLE, "support": _ARRAY + _TABLE}
+_CHECK_KEYS = {"material": _TEXT, "allowable_shear": _QUANTITY, "yield_strength": _QUANTITY,
+               "criterion": _TEXT, "safety_factor": _NUMBER + _TEXT}
+_MATERIAL_KEYS = {"based_on": _TEXT, "label": _TEXT, "shear_modulus": _QUANTITY,
+                  "yield_strength": _QUANTITY}
+_SEGMENT_KEYS = {"name": _TEXT, "length": _QUANTITY, "section": _TEXT + _TABLE,
+                 "material": _TEXT, "shear_modulus": _QUANTITY, "yield_strength": _QUANTITY,
+                 "allowable_shear": _QUANTITY}
+_SECTION_KEYS = {"diameter": _QUANTITY, "bore": _QUANTITY, "file": _TEXT, "outline": _ARRAY,
+                 "holes": _ARRAY, "units": _TEXT, "nominal_diameter": _QUANTITY,
+                 "mesh_size": _QUANTITY, "layer": _TEXT + _ARRAY, "join_tolerance": _QUANTITY}
+_LOAD_KEYS = {"name": _TEXT, "at": _QUANTITY, "torque": _QUANTITY}
+_SUPPORT_KEYS = {"name": _TEXT, "at": _QUANTITY}
+
+_TYPE_WORDS = {str: "text in quotes", int: "a number", float: "a number", dict: "a table",
+               list: "an array", bool: "true or false"}
 
 
-def _check_keys(table: dict, allowed: set, where: str) -> None:
-    for key in table:
+def _toml_type(value) -> str:
+    """The TOML type of a parsed value, in words."""
+    if isinstance(value, bool):
+        return "true/false"
+    for kind, words in ((str, "text"), (int, "an integer"), (float, "a number"),
+                        (dict, "a table"), (list, "an array")):
+        if isinstance(value, kind):
+            return words
+    return "a date or time" if hasattr(value, "isoformat") else type(value).__name__
+
+
+def _check_keys(table: dict, allowed: dict, where: str) -> None:
+    """Unknown keys and keys of the wrong TOML type: one line naming the key."""
+    for key, value in table.items():
         if key not in allowed:
             close = difflib.get_close_matches(key, sorted(allowed), n=1, cutoff=0.6)
             fix = (f"did you mean {close[0]!r}?" if close
                    else f"known keys: {', '.join(sorted(allowed))}")
             raise InputError(f"unknown key {key!r}", where=where, fix=fix)
+        types = allowed[key]
+        if isinstance(value, bool) or not isinstance(value, types):
+            words = " or ".join(dict.fromkeys(_TYPE_WORDS[t] for t in types))
+            if types == _QUANTITY:
+                words = 'text with a unit (e.g. "40 mm") or a bare number'
+            raise InputError(f"is {_toml_type(value)}, but {key} must be {words}",
+                             where=f"{where} key '{key}'")
 
 
 # --------------------------------------------------------------------------- sections
@@ -142,8 +178,12 @@ class SectionSource:
                 s = LENGTH_UNITS[result.units]
                 d, b, nominal_source = basis
                 nominal_diameter, bore = d * s, (b * s if b else None)
-        return section_from_result(result, nominal_diameter, name=path.stem, nominal_bore=bore,
-                                   nominal_source=nominal_source), result
+        section = section_from_result(result, nominal_diameter, name=path.stem,
+                                      nominal_bore=bore, nominal_source=nominal_source)
+        given = nominal_source.startswith(("given with --", where))
+        check_nominal_diameter(section, section.nominal_diameter,
+                               nominal_source.removeprefix("given with ") if given else where)
+        return section, result
 
     def from_outline(self, outline, holes, units: str, where: str,
                      nominal_diameter: float | None, name: str, mesh_size: float | None = None
@@ -166,8 +206,10 @@ class SectionSource:
                 labels=[f"{where} outline"] + [f"{where} hole {k}" for k in range(1, len(loops))])
             self.cache[key] = analyse(profile, **analyse_options(profile, {}, opts))
         result = self.cache[key]
-        return section_from_result(result, nominal_diameter, name=name,
-                                   nominal_source=f"{where} key 'nominal_diameter'"), result
+        section = section_from_result(result, nominal_diameter, name=name,
+                                      nominal_source=f"{where} key 'nominal_diameter'")
+        check_nominal_diameter(section, nominal_diameter, f"{where} key 'nominal_diameter'")
+        return section, result
 
     def from_spec(self, spec, base: Path, default_units: str | None, where: str,
                   name: str) -> Section:
@@ -190,7 +232,7 @@ class SectionSource:
         nominal = None
         if "nominal_diameter" in spec:
             nominal = parse_quantity(spec["nominal_diameter"], "length",
-                                     f"{where} key 'nominal_diameter'")
+                                     f"{where} key 'nominal_diameter'", sign="positive")
         mesh_size = None
         if "mesh_size" in spec:  # a bare number is in the section's own unit
             mesh_size = parse_drawing_length(spec["mesh_size"], f"{where} key 'mesh_size'")
@@ -199,9 +241,10 @@ class SectionSource:
             raise InputError(f"unknown length unit {units!r}", where=f"{where} key 'units'",
                              fix=f"use one of {', '.join(LENGTH_UNITS)}")
         if kinds[0] == "diameter":
-            d = parse_quantity(spec["diameter"], "length", f"{where} key 'diameter'")
-            bore = parse_quantity(spec["bore"], "length", f"{where} key 'bore'") \
-                if "bore" in spec else 0.0
+            d = parse_quantity(spec["diameter"], "length", f"{where} key 'diameter'",
+                               sign="positive")
+            bore = parse_quantity(spec["bore"], "length", f"{where} key 'bore'",
+                                  sign="nonnegative") if "bore" in spec else 0.0
             if d <= 0:
                 raise InputError("diameter must be positive", where=f"{where} key 'diameter'")
             if not 0 <= bore < d:
@@ -361,6 +404,7 @@ def shapefile_nominal_diameter(path) -> float | None:
 def _with_nominal(sec: Section, d: float, source: str) -> Section:
     from dataclasses import replace
 
+    check_nominal_diameter(sec, d, source)
     return replace(sec, nominal_diameter=d, nominal_source=source)
 
 
@@ -369,32 +413,13 @@ def twist_basis_of(text) -> float:
 
     ``"0.08 deg/ft"`` -> 0.3048 m; ``"1 deg/(800 mm)"`` -> 0.8 m (the rule
     "1 deg in 20 diameters" for d = 40 mm); a bare number (deg/m) or a
-    form without ``/`` -> the length unit pint finds in it, else 1 m.
+    form without a length to divide by -> 1 m.  Read by the quantity
+    grammar (:func:`soapfilm.units.per_length`), never evaluated.
     """
-    if not isinstance(text, str):
-        return DEFAULT_TWIST_BASIS
-    from .units import registry
+    from .units import per_length
 
-    ureg = registry()
-    body = text.strip().replace("°", " deg ")
-    try:
-        if "/" in body:
-            per = body.rsplit("/", 1)[1].strip()
-            if per.startswith("(") and per.endswith(")"):
-                per = per[1:-1]
-            q = ureg.Quantity(per)
-            if q.dimensionality == ureg.get_dimensionality("[length]"):
-                length = float(q.to("m").magnitude)
-                if length > 0 and math.isfinite(length):
-                    return length
-        q = ureg.Quantity(body)
-        for name, power in q.unit_items():
-            if power == -1 and ureg.Quantity(1, name).dimensionality == \
-                    ureg.get_dimensionality("[length]"):
-                return float(ureg.Quantity(1, name).to("m").magnitude)
-    except Exception:  # pint's parser errors: the value itself was checked elsewhere
-        pass
-    return DEFAULT_TWIST_BASIS
+    basis = per_length(text)
+    return DEFAULT_TWIST_BASIS if basis is None else basis
 
 
 # --------------------------------------------------------------------------- allowables
@@ -413,12 +438,22 @@ class CheckOptions:
     twist_basis: float | None = None
 
 
+#: largest safety factor taken: beyond it the allowable is a sliver of the strength,
+#: surely a slip (common practice, no source: design factors in machine design are
+#: single figures)
+MAX_SAFETY_FACTOR = 1000.0
+
+
 def check_safety_factor(n: float | None, where: str) -> float | None:
     """A safety factor must be at least 1 (below 1 it would raise the allowable above yield)."""
     if n is not None and not n >= 1:
         raise InputError(f"safety factor {n:g} is below 1: it would allow more than the "
                          "yield-based shear strength", where=where,
                          fix="give a safety factor of 1 or more (1 = none)")
+    if n is not None and n > MAX_SAFETY_FACTOR:
+        raise InputError(f"safety factor {n:g} is implausibly large (at most "
+                         f"{MAX_SAFETY_FACTOR:g} is taken)", where=where,
+                         fix="give the factor the design calls for, e.g. 2")
     return n
 
 
@@ -469,17 +504,19 @@ def _refuse_with_allowable(table: dict, keys, where: str) -> None:
 
 
 # --------------------------------------------------------------------------- shaft files
-def _q(table: dict, key: str, kind: str, where: str, required: bool = True):
+def _q(table: dict, key: str, kind: str, where: str, required: bool = True,
+       sign: str = "positive"):
+    """The quantity ``table[key]`` in SI; by default above zero (torques: ``sign="any"``)."""
     if key not in table:
         if required:
             raise InputError(f"missing key '{key}'", where=where,
                              fix=f"add {key} = \"...\" with its unit")
         return None
-    return parse_quantity(table[key], kind, f"{where} key '{key}'")
+    return parse_quantity(table[key], kind, f"{where} key '{key}'", sign=sign)
 
 
-def _label(kind: str, i: int, table: dict) -> str:
-    name = table.get("name")
+def _label(kind: str, i: int, table) -> str:
+    name = table.get("name") if isinstance(table, dict) else None
     return f"{kind} {i + 1}" + (f" ({name!r})" if isinstance(name, str) and name else "")
 
 
@@ -522,7 +559,7 @@ def shaft_from_dict(data: dict, base: Path, where: str, options: CheckOptions | 
         twist_basis = opts.twist_basis or DEFAULT_TWIST_BASIS
     elif "twist_limit" in data:
         twist_limit = parse_quantity(data["twist_limit"], "twist_rate",
-                                     f"{where} key 'twist_limit'")
+                                     f"{where} key 'twist_limit'", sign="positive")
         twist_note = "given in the shaft file"
         twist_basis = twist_basis_of(data["twist_limit"])
     else:
@@ -667,7 +704,7 @@ def shaft_from_dict(data: dict, base: Path, where: str, options: CheckOptions | 
     stations: list[tuple[float, str]] = []
 
     def position(table, w):
-        x = _q(table, "at", "length", w)
+        x = _q(table, "at", "length", w, sign="any")  # outside the shaft: said below
         if x < -tol or x > total + tol:
             raise InputError(
                 f"position {x * 1e3:g} mm is outside the shaft (0 to {total * 1e3:g} mm)",
@@ -685,7 +722,7 @@ def shaft_from_dict(data: dict, base: Path, where: str, options: CheckOptions | 
         lw = f"{where}: {_label('load', i, ld)}"
         _check_keys(ld, _LOAD_KEYS, lw)
         x = position(ld, lw)
-        t = _q(ld, "torque", "torque", lw)
+        t = _q(ld, "torque", "torque", lw, sign="any")  # the sign is the sense
         name = ld.get("name", f"load {i + 1}")
         loads.append(Load(name, x, t))
         stations.append((x, _label("load", i, ld)))

@@ -3,17 +3,23 @@
 Each subcommand is a module in this package exposing ``NAME``, ``HELP``,
 ``add_args(parser)`` and ``run(args) -> int``.  :func:`main` turns every
 :class:`~soapfilm.errors.SoapfilmError` into one line on stderr and exit
-status 2 (a traceback only with ``--debug``).
+status 2 (a traceback only with ``--debug``).  Without ``--debug`` nothing
+reaches stderr raw: Python warnings (numpy's floating-point warnings among
+them) and log records become one-line notices, printed after a run that ends
+normally and dropped when it ends in an error line; libraries' log records
+below ERROR are dropped.
 """
 
 from __future__ import annotations
 
 import argparse
+import contextlib
 import importlib
 import logging
 import sys
+import warnings
 
-from ..errors import EXIT_CHECK_FAILED, EXIT_ROWS_FAILED, SoapfilmError
+from ..errors import EXIT_CHECK_FAILED, EXIT_ROWS_FAILED, SoapfilmError, one_line
 
 __all__ = ["main", "SUBCOMMANDS"]
 
@@ -58,6 +64,82 @@ def build_parser() -> argparse.ArgumentParser:
     return parser
 
 
+#: most notices one run prints (each distinct warning once)
+_MAX_NOTICES = 10
+#: warnings meant for developers, not for the user of the command: dropped
+_DEVELOPER_WARNINGS = (DeprecationWarning, PendingDeprecationWarning, FutureWarning,
+                       ImportWarning, ResourceWarning)
+
+
+class _Notices:
+    """One-line notices gathered from warnings and log records during a run."""
+
+    def __init__(self):
+        self.lines: list[str] = []
+
+    def add(self, text: str) -> None:
+        line = f"soapfilm: warning: {one_line(text)}"
+        if line not in self.lines and len(self.lines) < _MAX_NOTICES:
+            self.lines.append(line)
+
+    def showwarning(self, message, category, filename, lineno, file=None, line=None):
+        """Replacement of :func:`warnings.showwarning` for the run."""
+        if issubclass(category, _DEVELOPER_WARNINGS):
+            return
+        text = str(message).strip().splitlines()[0] if str(message).strip() else category.__name__
+        if issubclass(category, RuntimeWarning):  # numpy's floating-point warnings, mostly
+            self.add(f"numerical trouble: {text} (check the results and the input's sizes; "
+                     "--debug shows where)")
+        else:
+            self.add(text)
+
+
+class _NoticeHandler(logging.Handler):
+    """Log records as notices: soapfilm's own from WARNING, other libraries' from ERROR."""
+
+    def __init__(self, notices: _Notices):
+        super().__init__(logging.WARNING)
+        self.notices = notices
+
+    def emit(self, record: logging.LogRecord) -> None:
+        ours = record.name == "soapfilm" or record.name.startswith("soapfilm.")
+        if record.levelno < (logging.WARNING if ours else logging.ERROR):
+            return
+        try:
+            text = record.getMessage().strip()
+        except Exception:  # a library's badly formatted record: not worth a line
+            return
+        text = text.splitlines()[0] if text else record.levelname
+        self.notices.add(text if ours else f"{record.name.split('.')[0]}: {text}")
+
+
+@contextlib.contextmanager
+def _routed(debug: bool):
+    """Route warnings and logging for one run; yield the notices (None with --debug)."""
+    root = logging.getLogger()
+    if debug:  # everything, raw, with the debug log
+        handler = logging.StreamHandler(sys.stderr)
+        handler.setFormatter(logging.Formatter("%(levelname)s %(name)s: %(message)s"))
+        level = root.level
+        root.setLevel(logging.DEBUG)
+        root.addHandler(handler)
+        try:
+            yield None
+        finally:
+            root.removeHandler(handler)
+            root.setLevel(level)
+        return
+    notices = _Notices()
+    handler = _NoticeHandler(notices)
+    root.addHandler(handler)
+    try:
+        with warnings.catch_warnings():
+            warnings.showwarning = notices.showwarning
+            yield notices
+    finally:
+        root.removeHandler(handler)
+
+
 def main(argv: list[str] | None = None) -> int:
     """Run the command line; return the exit status."""
     parser = build_parser()
@@ -68,14 +150,23 @@ def main(argv: list[str] | None = None) -> int:
     if not getattr(args, "command", None):
         parser.print_help()
         return 2
-    logging.basicConfig(level=logging.DEBUG if args.debug else logging.WARNING,
-                        format="%(levelname)s %(name)s: %(message)s")
+    with _routed(args.debug) as notices:
+        status = _run(args)
+    if notices is not None and status in (0, EXIT_CHECK_FAILED, EXIT_ROWS_FAILED):
+        # after an error line nothing else: the error is what to act on
+        for line in notices.lines:
+            print(line, file=sys.stderr)
+    return status
+
+
+def _run(args) -> int:
+    """Run the command; every error becomes one line on stderr and a status."""
     try:
         return int(args._run(args) or 0)
     except SoapfilmError as exc:
         if args.debug:
             raise
-        print(f"soapfilm: error: {exc}", file=sys.stderr)
+        print(f"soapfilm: error: {one_line(exc, 4 * 300)}", file=sys.stderr)
         return 2
     except KeyboardInterrupt:
         print("soapfilm: interrupted", file=sys.stderr)
@@ -95,8 +186,8 @@ def main(argv: list[str] | None = None) -> int:
     except Exception as exc:  # a bug, not a user error: one line, traceback with --debug
         if args.debug:
             raise
-        print(f"soapfilm: internal error: {type(exc).__name__}: {exc} (this is a bug in soapfilm; "
-              f"rerun with --debug and report the traceback)", file=sys.stderr)
+        print(f"soapfilm: internal error: {type(exc).__name__}: {one_line(exc)} (this is a bug in "
+              "soapfilm; rerun with --debug and report the traceback)", file=sys.stderr)
         return 1
 
 
