@@ -54,7 +54,7 @@ from .profile import LENGTH_UNITS, Profile
 from .result import CAUTION, json_ready
 
 __all__ = [
-    "Job", "Variant", "SweepPlan", "run_batch", "run_job", "sweep", "plan_sweep",
+    "Job", "Variant", "SweepPlan", "run_batch", "run_job", "run_job_noting_reads", "sweep", "plan_sweep",
     "parse_values", "parse_vary", "output_unit", "rows_in_unit", "csv_text", "document",
     "QUANTITIES", "OPTION_KEYS",
 ]
@@ -231,6 +231,19 @@ def run_job(job: Job) -> dict:
 Progress = Callable[[int, int, dict], None]
 
 
+def run_job_noting_reads(job: Job) -> tuple[dict, list[str]]:
+    """:func:`run_job`, and the files it opened for reading (absolute paths).
+
+    What a batch runs when its caller wants to know every file read, in
+    whatever process the job runs (``files_read`` of :func:`run_batch`).
+    """
+    from .opened import files_opened
+
+    with files_opened() as seen:
+        row = run_job(job)
+    return row, sorted(seen)
+
+
 def _error_row(job: Job, exc: BaseException) -> dict:
     row = _empty_row(job)
     if isinstance(exc, cf.process.BrokenProcessPool):
@@ -268,21 +281,34 @@ def _pool_context():
     return multiprocessing.get_context("spawn")
 
 
-def _collect(futures: list, jobs: list[Job], wait: Callable, progress: Progress | None) -> list[dict]:
+def _task(files_read: set | None) -> tuple[Callable, Callable]:
+    """What a job runs, and how its result becomes a row (noting the files it read)."""
+    if files_read is None:
+        return run_job, lambda result: result
+
+    def take(result) -> dict:
+        row, read = result
+        files_read.update(read)
+        return row
+    return run_job_noting_reads, take
+
+
+def _collect(futures: list, jobs: list[Job], wait: Callable, progress: Progress | None,
+             take: Callable = lambda result: result) -> list[dict]:
     """Rows in input order; a future that raises (worker died) gives an error row."""
     if progress is not None:
         index = {id(f): i for i, f in enumerate(futures)}
         for done, f in enumerate(wait(futures), start=1):
             i = index[id(f)]
             try:
-                row = f.result()
+                row = take(f.result())  # noting the reads twice changes nothing
             except Exception as exc:  # noqa: BLE001
                 row = _error_row(jobs[i], exc)
             progress(done, len(jobs), row)
     rows = []
     for job, f in zip(jobs, futures, strict=True):
         try:
-            rows.append(f.result())
+            rows.append(take(f.result()))
         except Exception as exc:  # noqa: BLE001 - e.g. a worker process killed
             log.debug("job %r: %s", job.label, _message(exc))
             rows.append(_error_row(job, exc))
@@ -295,6 +321,7 @@ def run_batch(
     executor: str | cf.Executor = "process",
     scheduler=None,
     progress: Progress | None = None,
+    files_read: set | None = None,
 ) -> list[dict]:
     """Run many analyses and return one row per job, in input order.
 
@@ -316,6 +343,10 @@ def run_batch(
         connected client.
     progress : callable, optional
         Called as ``progress(done, total, row)`` as jobs finish (any order).
+    files_read : set, optional
+        Filled with the absolute paths of the files the jobs opened for
+        reading, in whatever process they ran (a shape file's drawing, say),
+        so that the caller can refuse to write over any of them.
 
     Returns
     -------
@@ -332,11 +363,12 @@ def run_batch(
     jobs = [_as_job(j) for j in jobs]
     if not jobs:
         return []
+    task, take = _task(files_read)
     if executor == "dask":
-        return _run_dask(jobs, workers, scheduler, progress)
+        return _run_dask(jobs, workers, scheduler, progress, task, take)
     if isinstance(executor, cf.Executor):
-        futures = [executor.submit(run_job, j) for j in jobs]
-        return _collect(futures, jobs, cf.as_completed, progress)
+        futures = [executor.submit(task, j) for j in jobs]
+        return _collect(futures, jobs, cf.as_completed, progress, take)
     if executor not in ("process", "serial"):
         raise InputError(f"unknown executor {executor!r}", fix="use 'process', 'serial' or 'dask'")
     n = (os.cpu_count() or 1) if workers is None else int(workers)
@@ -345,18 +377,18 @@ def run_batch(
     if executor == "serial" or n == 1 or len(jobs) == 1:
         rows = []
         for done, job in enumerate(jobs, start=1):
-            rows.append(run_job(job))
+            rows.append(take(task(job)))
             if progress is not None:
                 progress(done, len(jobs), rows[-1])
         return rows
-    rows = _in_pool(jobs, min(n, len(jobs)), progress)
+    rows = _in_pool(jobs, min(n, len(jobs)), progress, task, take)
     # a worker that died (killed for memory, a crash in native code) breaks the whole
     # pool: run the jobs it took down again, each alone, so only the culprit fails
     lost = [i for i, r in enumerate(rows) if r.get("error", "") and r["error"].startswith(_DIED)]
     if lost:
         log.warning("a worker process died; running %d job(s) again one by one", len(lost))
     for i in lost:
-        rows[i] = _in_pool([jobs[i]], 1, None)[0]
+        rows[i] = _in_pool([jobs[i]], 1, None, task, take)[0]
     return rows
 
 
@@ -364,23 +396,38 @@ def run_batch(
 _DIED = "worker process died"
 
 
-def _in_pool(jobs: list[Job], n: int, progress: Progress | None) -> list[dict]:
+def _in_pool(jobs: list[Job], n: int, progress: Progress | None, task: Callable = run_job,
+             take: Callable = lambda result: result) -> list[dict]:
     pool = cf.ProcessPoolExecutor(max_workers=n, mp_context=_pool_context())
     try:
         with _worker_environment():  # the workers (and the fork server) start here
-            futures = [pool.submit(run_job, j) for j in jobs]
-        return _collect(futures, jobs, cf.as_completed, progress)
-    except BaseException:  # e.g. Ctrl-C: drop the jobs not yet started
+            futures = [pool.submit(task, j) for j in jobs]
+        return _collect(futures, jobs, cf.as_completed, progress, take)
+    except BaseException as exc:  # e.g. Ctrl-C: drop the jobs not yet started
+        if not isinstance(exc, Exception):  # stopped (Ctrl-C, SIGTERM): the running ones too
+            _stop_workers(pool)
         pool.shutdown(wait=False, cancel_futures=True)
         raise
     finally:
         pool.shutdown(wait=True)
 
 
+def _stop_workers(pool: cf.ProcessPoolExecutor) -> None:
+    """End the pool's worker processes now, rather than after their current jobs."""
+    stop = getattr(pool, "terminate_workers", None)  # Python 3.14
+    if stop is not None:
+        stop()
+        return
+    for proc in list((getattr(pool, "_processes", None) or {}).values()):
+        with contextlib.suppress(Exception):
+            proc.terminate()
+
+
 _ADDRESS = re.compile(r"^[a-z][a-z0-9+.-]*://\S+$")
 
 
-def _run_dask(jobs: list[Job], workers: int | None, scheduler, progress) -> list[dict]:
+def _run_dask(jobs: list[Job], workers: int | None, scheduler, progress,
+              task: Callable = run_job, take: Callable = lambda result: result) -> list[dict]:
     try:
         from dask.distributed import Client, LocalCluster, as_completed
     except ImportError:
@@ -406,8 +453,8 @@ def _run_dask(jobs: list[Job], workers: int | None, scheduler, progress) -> list
         raise InputError(f"not a scheduler address: {scheduler!r}", where="--scheduler",
                          fix="give e.g. tcp://10.0.0.5:8786, or 'local'")
     try:
-        futures = client.map(run_job, jobs, pure=False)
-        return _collect(futures, jobs, as_completed, progress)
+        futures = client.map(task, jobs, pure=False)
+        return _collect(futures, jobs, as_completed, progress, take)
     finally:
         for obj in owned:
             obj.close()

@@ -24,8 +24,6 @@ from __future__ import annotations
 import contextlib
 import io
 import logging
-import os
-import tempfile
 from pathlib import Path
 
 import numpy as np
@@ -110,18 +108,24 @@ def result_to_meshio(result, torque: float | None = None, stress_unit: str = "MP
     return meshio.Mesh(points, [(cell_type, t.T.astype(np.int64))], point_data=point_data)
 
 
-def write_mesh(result, path, torque: float | None = None, stress_unit: str = "MPa") -> Path:
+def write_mesh(result, path, torque: float | None = None, stress_unit: str = "MPa",
+               outputs=None) -> Path:
     """Write mesh and fields to ``path``; the format follows the suffix.
 
     The file is written under a temporary name in the same folder and renamed
-    when complete, so a failure never leaves a partial file.  XDMF is written
-    with its data inline (XML), so it is one self-contained file.
+    when complete, so a failure never leaves a partial file; with ``outputs``
+    (a :class:`soapfilm.cli._io.Outputs`) it is only staged there, and renamed
+    with the run's other files by ``outputs.commit()``.  XDMF is written with
+    its data inline (XML), so it is one self-contained file.
 
     Raises
     ------
     InputError
-        Unknown suffix, or meshio refused to write this mesh in that format.
+        Unknown suffix, meshio refused to write this mesh in that format, or
+        the file could not be written (disk full, no permission).
     """
+    from .cli._io import Outputs
+
     path = Path(path)
     fmt = mesh_format(path)
     m = result_to_meshio(result, torque=torque, stress_unit=stress_unit)
@@ -133,30 +137,30 @@ def write_mesh(result, path, torque: float | None = None, stress_unit: str = "MP
         m.cell_data["gmsh:physical"] = [ones]
         m.cell_data["gmsh:geometrical"] = [ones]
         fmt = "gmsh22"
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=path.parent or ".")
-    os.close(fd)
-    try:
+
+    def write(tmp) -> None:
         import meshio
 
         chatter = io.StringIO()  # meshio prints notes such as "dropping vector data"
         try:
             with contextlib.redirect_stdout(chatter), contextlib.redirect_stderr(chatter):
                 meshio.write(tmp, m, file_format=fmt, **kwargs)
+        except OSError:
+            raise  # disk full, permissions: the caller's one line
         except Exception as exc:  # meshio raises assorted types for unsupported data
             raise InputError(f"could not write the mesh as {fmt}: {exc}",
                              where=f"--mesh-out {path}", fix="use .vtu, .xdmf or .msh") from exc
         if chatter.getvalue().strip():
             log.info("meshio: %s", chatter.getvalue().strip())
-        _match_umask(tmp)
-        os.replace(tmp, path)
+
+    if outputs is not None:
+        outputs.stage_with(path, write, "--mesh-out")
+        return path
+    run = Outputs()  # alone: staged and committed at once
+    try:
+        run.stage_with(path, write, "--mesh-out")
+        run.commit()
     finally:
-        Path(tmp).unlink(missing_ok=True)
+        run.discard()
     log.info("wrote %s", path)
     return path
-
-
-def _match_umask(path) -> None:
-    """Give a temporary file the permissions a normally created file would get."""
-    mask = os.umask(0)
-    os.umask(mask)
-    os.chmod(path, 0o666 & ~mask)

@@ -48,6 +48,7 @@ def build_parser() -> argparse.ArgumentParser:
     )
     parser.add_argument("--debug", action="store_true", help="show tracebacks and debug log")
     from ..defaults import VERSION
+    from ._io import staged_run
 
     parser.add_argument("--version", action="version", version=f"soapfilm {VERSION}")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
@@ -59,7 +60,8 @@ def build_parser() -> argparse.ArgumentParser:
         p.add_argument("--debug", action="store_true", default=argparse.SUPPRESS,
                        help="show tracebacks and debug log")
         mod.add_args(p)
-        p.set_defaults(_run=mod.run)
+        # outputs staged and committed together; SIGTERM removes them (cli/_io.py)
+        p.set_defaults(_run=staged_run(mod.run))
         parser._commands[mod.NAME] = p
     return parser
 

@@ -3,9 +3,9 @@
 Kept apart from ``solve.py`` so that the options are added by three calls:
 :func:`add_output_args` (parser), :func:`check_outputs` (before any work:
 suffixes known, folders exist, no two outputs or an output and the input the
-same file) and :func:`write_outputs` (after solving: everything is rendered in
-memory first, then each file is written atomically, so a failure never
-leaves a partial file).
+same file) and :func:`write_outputs` (after solving: every file is staged
+in the run's :class:`~soapfilm.cli._io.Outputs` and all are committed
+together, so a failure leaves none of them).
 """
 
 from __future__ import annotations
@@ -15,7 +15,7 @@ from pathlib import Path
 
 from ..errors import InputError
 from ..stress_units import STRESS_UNITS, shear_scale
-from ._io import check_writable, same_file, write_atomic
+from ._io import check_writable, run_outputs, same_file
 
 __all__ = ["add_output_args", "check_outputs", "write_outputs", "torque_line"]
 
@@ -106,40 +106,38 @@ def torque_line(result, args) -> str | None:
 
 def write_outputs(args, result, inputs: dict | None = None,
                   extra: list[tuple[str, bytes | str]] = ()) -> list[Path]:
-    """Render the outputs asked for, then write them; return the paths written.
+    """Render and stage the outputs asked for, then commit the run's files; return them.
 
-    ``extra`` are more (path, content) pairs already rendered (the JSON):
-    everything is rendered before the first file is written.
+    ``extra`` are more (path, content) pairs already rendered.  Every file
+    goes through the run's :class:`~soapfilm.cli._io.Outputs` (with what the
+    command staged before, its JSON): nothing is in place until all are
+    written, and a failure (a full disk) leaves none of them.
     """
     from .. import plots
 
-    pending: list[tuple[str, bytes | str]] = list(extra)
+    out = run_outputs()
+    for path, data in extra:
+        out.stage(path, data)
     torque, unit = args.torque, args.stress_unit
     if args.plot:
         ax = plots.plot_shear(result, torque=torque, stress_unit=unit, show_mesh=args.plot_mesh)
-        pending.append((args.plot, plots.figure_bytes(ax, plots.figure_format(args.plot))))
+        out.stage(args.plot, plots.figure_bytes(ax, plots.figure_format(args.plot)), "--plot")
     if args.plot_warping:
         ax = plots.plot_warping(result)
-        pending.append((args.plot_warping,
-                        plots.figure_bytes(ax, plots.figure_format(args.plot_warping))))
+        out.stage(args.plot_warping,
+                  plots.figure_bytes(ax, plots.figure_format(args.plot_warping)),
+                  "--plot-warping")
     if args.plot_3d:
         ax = plots.plot_stress_surface(result)
-        pending.append((args.plot_3d, plots.figure_bytes(ax, plots.figure_format(args.plot_3d))))
+        out.stage(args.plot_3d, plots.figure_bytes(ax, plots.figure_format(args.plot_3d)),
+                  "--plot-3d")
     if args.report:
         from ..report import render_report
 
-        pending.append((args.report, render_report(result, inputs=inputs, torque=torque,
-                                                   stress_unit=unit)))
-    written = []
-    try:
-        if args.mesh_out:
-            from ..export import write_mesh
+        out.stage(args.report, render_report(result, inputs=inputs, torque=torque,
+                                             stress_unit=unit), "--report")
+    if args.mesh_out:
+        from ..export import write_mesh
 
-            written.append(write_mesh(result, args.mesh_out, torque=torque, stress_unit=unit))
-        for path, data in pending:
-            write_atomic(path, data)
-            written.append(Path(path))
-    except OSError as exc:  # disk full, folder removed meanwhile...
-        raise InputError(f"could not write {exc.filename or 'a file'}: {exc.strerror}",
-                         fix="check the folder and the free space") from None
-    return written
+        write_mesh(result, args.mesh_out, torque=torque, stress_unit=unit, outputs=out)
+    return out.commit()

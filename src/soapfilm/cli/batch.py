@@ -16,7 +16,7 @@ from pathlib import Path
 from ..defaults import CAUTION
 from ..errors import EXIT_ROWS_FAILED, InputError
 from ._inputs import add_input_args, input_options
-from ._io import check_outputs_apart, check_writable, console, write_atomic, write_json
+from ._io import check_outputs_apart, check_writable, console, run_outputs, write_json
 
 NAME = "batch"
 HELP = "analyse many section files in parallel and tabulate them (CSV, JSON)"
@@ -79,7 +79,8 @@ def execute(args, jobs) -> list[dict]:
     """Run the jobs with the parallel options, showing progress on a terminal."""
     from ..batch import run_batch
 
-    run = {"workers": args.jobs}
+    # what the jobs read (a shape file's drawing, in a worker process) counts as read
+    run = {"workers": args.jobs, "files_read": run_outputs().reads}
     if args.scheduler is not None:
         run.update(executor="dask", scheduler=args.scheduler)
         if not args.debug:  # Dask's own INFO chatter is not for this terminal
@@ -150,13 +151,18 @@ def finish(args, rows: list[dict], title: str, unit: str | None = None, input_un
 
     unit = output_unit(rows, unit)
     shown = rows_in_unit(rows, unit)
+    files = run_outputs()  # every file written before anything is printed
+    if args.csv:
+        files.stage(args.csv, csv_text(rows, unit, input_units), "--csv")
+    doc = document(rows, unit, input_units=input_units, **extra) if args.json else None
+    if args.json and args.json != "-":
+        files.stage_json(args.json, doc, "--json")
+    files.commit()
     con = console(args.quiet or args.json == "-")
     if con:
         print_table(shown, unit, con, title)
-    if args.csv:
-        write_atomic(args.csv, csv_text(rows, unit, input_units))
-    if args.json:
-        write_json(args.json, document(rows, unit, input_units=input_units, **extra))
+    if args.json == "-":
+        write_json("-", doc)
     failed = [r for r in rows if r.get("error")]
     if con:
         con.print(f"[dim]Caution: {CAUTION}[/]")

@@ -10,7 +10,7 @@ from ..errors import InputError
 from ..materials import Allowable, Material, criterion_key, material
 from ..units import UnitSystem, parse_number, parse_positive, parse_quantity, unit_system
 from ._inputs import add_input_args, input_options
-from ._io import check_outputs_apart, check_writable, console, write_atomic, write_json
+from ._io import check_outputs_apart, check_writable, console, run_outputs, write_json
 
 if TYPE_CHECKING:  # the mechanics are imported when a check runs, not for --help
     from ..shaft import Section, SectionCheck
@@ -299,16 +299,20 @@ def finish(args, section, fe_result, torque, length, mat, allowable, twist_limit
                "material": "--material" if args.material else "--shear-modulus"}
     view = section_check_view(res, mat, sys_, twist_note=twist_note, sources=sources,
                               section_file=str(args.section))
-    con = console(args.quiet or args.json == "-")
-    if con:
-        print_check(res, mat, sys_, twist_note, con, view=view)
     out = check_json(res, mat, twist_note)
+    files = run_outputs()  # every file written before anything is printed
     if args.report:
         from ..report import render_report
 
         html = render_report(fe_result, torque=abs(torque) or None, check=view)
-        write_atomic(args.report, html)
-    if args.json:
-        write_json(args.json, out)
+        files.stage(args.report, html, "--report")
+    if args.json and args.json != "-":
+        files.stage_json(args.json, out, "--json")
+    files.commit()
+    con = console(args.quiet or args.json == "-")
+    if con:
+        print_check(res, mat, sys_, twist_note, con, view=view)
+    if args.json == "-":
+        write_json("-", out)
     return 0 if res.passed else EXIT_CHECK_FAILED
 

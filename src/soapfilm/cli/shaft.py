@@ -9,7 +9,7 @@ from ..defaults import CAUTION
 from ..errors import InputError
 from ..units import UnitSystem, parse_positive
 from ._inputs import add_input_args, input_options
-from ._io import check_outputs_apart, check_writable, console, write_atomic, write_json
+from ._io import check_outputs_apart, check_writable, console, run_outputs, write_json
 from .check import (
     add_allowable_args,
     allowable_json,
@@ -233,25 +233,30 @@ def finish(args, res: ShaftResult, sys_) -> int:
     if args.safety_factor:
         sources["safety_factor"] = "--safety-factor"
     view = shaft_check_view(res, sys_, sources=sources, shaft_file=str(args.file))
-    con = console(args.quiet or args.json == "-")
-    if con:
-        print_shaft(res, sys_, con, view=view)
-    if args.json:
-        write_json(args.json, shaft_json(res))
+    files = run_outputs()  # every file written before anything is printed
+    if args.json and args.json != "-":
+        files.stage_json(args.json, shaft_json(res), "--json")
     if args.plot or args.report:
         from ..shaftplot import shaft_figure_bytes
 
         if args.plot:
             from ..plots import figure_format
 
-            write_atomic(args.plot, shaft_figure_bytes(res, sys_, figure_format(args.plot)))
-            if con:
-                con.print(f"plot written to {args.plot}")
+            files.stage(args.plot, shaft_figure_bytes(res, sys_, figure_format(args.plot)),
+                        "--plot")
         if args.report:
             from ..report import render_shaft_report
 
-            write_atomic(args.report, render_shaft_report(
-                view, shaft_figure_bytes(res, sys_, "png", dpi=110)))
-            if con:
-                con.print(f"report written to {args.report}")
+            files.stage(args.report, render_shaft_report(
+                view, shaft_figure_bytes(res, sys_, "png", dpi=110)), "--report")
+    files.commit()
+    con = console(args.quiet or args.json == "-")
+    if con:
+        print_shaft(res, sys_, con, view=view)
+        if args.plot:
+            con.print(f"plot written to {args.plot}")
+        if args.report:
+            con.print(f"report written to {args.report}")
+    if args.json == "-":
+        write_json("-", shaft_json(res))
     return 0 if res.passed else EXIT_CHECK_FAILED

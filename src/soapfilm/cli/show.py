@@ -6,7 +6,7 @@ import argparse
 
 from ..errors import InputError
 from ._inputs import add_input_args, input_options
-from ._io import check_outputs_apart, check_writable
+from ._io import check_outputs_apart, check_writable, run_outputs
 
 NAME = "show"
 HELP = "draw a section (optionally with its mesh) to a picture, to check the input"
@@ -26,7 +26,7 @@ def add_args(p: argparse.ArgumentParser) -> None:
 
 def run(args) -> int:
     opts = input_options(args)
-    from ..plots import draw_section, figure_format, save_figure
+    from ..plots import draw_section, figure_bytes, figure_format
 
     try:
         figure_format(args.out)
@@ -60,7 +60,10 @@ def run(args) -> int:
 
             kw = analyse_options(profile, settings, opts)
             mesh = mesh_profile(profile, kw["mesh_size"])
-    path = save_figure(draw_section(profile, mesh=mesh), args.out)
+    out = run_outputs()
+    out.stage(args.out, figure_bytes(draw_section(profile, mesh=mesh), figure_format(args.out)),
+              "--png")
+    path, = out.commit()
     if not args.quiet:
         for note in profile.notes:
             print(f"warning: {note}")

@@ -6,7 +6,7 @@ import argparse
 
 from . import _outputs  # pictures, report, mesh export
 from ._inputs import add_input_args, input_options
-from ._io import check_writable, console, progress
+from ._io import check_writable, console, progress, run_outputs
 
 NAME = "solve"
 HELP = "compute J, peak shear per unit torque and related properties of a section"
@@ -62,11 +62,8 @@ def run(args) -> int:
                                    f"{e['relative_bracket']:.1e}, peak error "
                                    f"{e['max_shear_error']:.1e}")
         result = solve_input(args.input, opts, progress=step)
-    extra = []
     if args.json and args.json != "-":
-        from ._io import json_text
-
-        extra.append((args.json, json_text(result.to_dict())))
+        run_outputs().stage_json(args.json, result.to_dict(), "--json")
     inputs = {"input file": args.input,  # rows for the report
               "mesh": ("as given in the file" if is_mesh_file(args.input)
                        else f"element size {opts.mesh_size}" if opts.mesh_size
@@ -74,7 +71,7 @@ def run(args) -> int:
               "accuracy": ("one solve on that mesh" if result.converged is None
                            else f"adaptive to tol {opts.tol or DEFAULT_TOL:g}"),
               "element order": str(opts.order)}
-    written = _outputs.write_outputs(args, result, inputs=inputs, extra=extra)
+    written = _outputs.write_outputs(args, result, inputs=inputs)  # commits the JSON too
     if args.json == "-":
         from ._io import write_json
 
