@@ -316,3 +316,44 @@ def test_sigterm_stops_a_batch_and_its_workers(tmp_path):
     assert proc.returncode == 128 + signal.SIGTERM, err
     assert stopped < 15, f"{stopped:.1f} s to stop"  # was the jobs' whole time (minutes)
     assert _files(folder) == INPUTS | {"rect.txt"}
+
+
+def _device(tmp_path, name: str, minor: int) -> Path:
+    """A character device like /dev/null (minor 3) or /dev/full (7): made in ``tmp_path``
+    when we may (as root, so that a mistake could not replace the system's own), else
+    the system's (which an ordinary user cannot replace)."""
+    if os.geteuid() == 0:
+        dev = tmp_path / name
+        try:
+            os.mknod(dev, 0o666 | __import__("stat").S_IFCHR, os.makedev(1, minor))
+            return dev
+        except OSError:
+            pytest.skip("cannot make a device node here")
+    dev = Path("/dev") / name
+    if not dev.exists():
+        pytest.skip(f"no {dev}")
+    return dev
+
+
+def test_device_outputs_are_written_into_not_replaced(tmp_path, monkeypatch, capsys):
+    """`--json /dev/null` discards the JSON and leaves the device a device (a rename over
+    it, as root, made it a regular file); /dev/full fails every write with ENOSPC, a real
+    full disk: one line, exit 2, and the CSV staged with it is not left behind."""
+    import stat
+
+    (tmp_path / "work").mkdir()
+    folder = _folder(tmp_path / "work")
+    monkeypatch.chdir(folder)
+    null = _device(tmp_path, "null", 3)
+    assert main(["batch", "outline.txt", "--mesh-size", "4", "--jobs", "1", "--json", str(null),
+                 "--csv", "r.csv", "--quiet"]) == 0
+    assert stat.S_ISCHR(os.stat(null).st_mode)
+    assert _files(folder) == INPUTS | {"r.csv"}
+    os.unlink("r.csv")
+    full = _device(tmp_path, "full", 7)
+    assert main(["batch", "outline.txt", "--mesh-size", "4", "--jobs", "1", "--json", str(full),
+                 "--csv", "r.csv", "--quiet"]) == 2
+    assert "could not write the file (No space left on device)" in _one_error_line(capsys)
+    assert stat.S_ISCHR(os.stat(full).st_mode)
+    assert _files(folder) == INPUTS
+    assert not [n for n in os.listdir(tmp_path) if n.endswith(".part")]

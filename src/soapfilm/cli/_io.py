@@ -19,7 +19,9 @@ import errno
 import functools
 import json
 import os
+import shutil
 import signal
+import stat
 import sys
 import tempfile
 import threading
@@ -65,11 +67,23 @@ def _signals_held():
         signal.pthread_sigmask(signal.SIG_SETMASK, old)
 
 
+def _is_special(path) -> bool:
+    """An existing target that is no regular file (``/dev/null``, a named pipe, a
+    terminal): written into when the run commits, never replaced by a rename."""
+    try:
+        mode = os.stat(path).st_mode
+    except (OSError, ValueError):
+        return False
+    return not stat.S_ISREG(mode) and not stat.S_ISDIR(mode)
+
+
 def _new_temporary(target: Path, suffix: str) -> str:
-    """A new empty file ``.NAME.XXXX<suffix>`` next to ``target``, registered in _TEMPS."""
+    """A new empty file ``.NAME.XXXX<suffix>`` next to ``target`` (in the temporary
+    folder for a special target: nothing is created in /dev), registered in _TEMPS."""
+    folder = (None if _is_special(target) else
+              target.parent if str(target.parent) else ".")
     with _signals_held():  # no moment where the file exists and nobody would remove it
-        fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=suffix,
-                                   dir=target.parent if str(target.parent) else ".")
+        fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=suffix, dir=folder)
         _TEMPS.add(tmp)
     os.close(fd)
     return tmp
@@ -208,7 +222,10 @@ class Outputs:
         backups: dict[Path, str] = {}
         try:
             self._check(staged)
+            special = [s for s in staged if _is_special(s[0])]
             for target, tmp, where, _ in staged:
+                if (target, tmp, where, _) in special:
+                    continue
                 if os.path.lexists(target):  # keep the old file until the run is through
                     backup = tmp[: -len(".part")] + ".keep"
                     try:
@@ -221,6 +238,13 @@ class Outputs:
                 except OSError as exc:
                     raise _write_error(exc, where) from None
                 _TEMPS.discard(tmp)
+            for target, tmp, where, _ in special:  # last: these cannot be taken back
+                try:
+                    with open(tmp, "rb") as src, open(target, "wb") as dst:
+                        shutil.copyfileobj(src, dst)
+                except OSError as exc:
+                    raise _write_error(exc, where) from None
+                _drop(tmp)
         except BaseException:
             for target, _, _, ident in staged:
                 try:
@@ -354,6 +378,11 @@ def check_writable(path: str | os.PathLike, option: str) -> Path:
                          fix="create the folder or choose another path")
     if p.is_dir():
         raise InputError("is a folder", where=f"{option} {p}", fix="give a file name")
+    if _is_special(p):  # /dev/null, a named pipe: written into, not replaced
+        if not os.access(p, os.W_OK):
+            raise InputError("cannot be written", where=f"{option} {p}",
+                             fix="choose a file you can write to")
+        return p
     try:  # the only sure test: make (and remove) a file there, as the outputs will be
         _drop(_new_temporary(parent / p.name, ".check"))
     except OSError as exc:
@@ -369,10 +398,15 @@ def write_atomic(path: str | os.PathLike, data: str | bytes) -> None:
     their files in :func:`run_outputs`.  Raises OSError.
     """
     p = Path(path)
+    data = data.encode("utf-8") if isinstance(data, str) else data
+    if _is_special(p):  # /dev/null, a pipe: written into, never replaced
+        with open(p, "wb") as fh:
+            fh.write(data)
+        return
     tmp = _temporary(p)
     try:
         with open(tmp, "wb") as fh:
-            fh.write(data.encode("utf-8") if isinstance(data, str) else data)
+            fh.write(data)
         os.replace(tmp, p)
         _TEMPS.discard(tmp)
     except BaseException:
