@@ -1,0 +1,599 @@
+"""Properties of every valid section, checked on random ones (hypothesis).
+
+The sections are star-shaped polygons (random radii at sorted angles), with up to
+three star-shaped holes placed inside, often near-touching the outside or each other
+(gap down to 1e-3 of the section's size before stretching), stretched to aspect
+ratios down to 1:1000 and scaled to sizes from 1e-4 to 1e6.  Each is solved on a
+coarse mesh with linear or quadratic elements: the properties below hold for ANY
+mesh, so coarse meshes test them as well as fine ones.
+
+What must hold, with the outside source of each:
+
+- ``J_lo <= J`` and ``J <= J_hi``: the stress function's complementary energy is
+  below J and the warping function's potential energy above it for any admissible
+  field (Timoshenko & Goodier, Theory of Elasticity, 3rd ed., ch. 10); so
+  ``J_lo <= J_hi``, and two brackets of the same section, from any two meshes, overlap.
+- ``J <= Ip``: the warping energy with ``w = 0`` is the polar moment (same source);
+  checked on ``J_hi``, which the discrete minimisation keeps below ``Ip``.
+- Saint-Venant's inequality ``J <= A^2 / (2 pi)`` for a simply connected section
+  (G. Polya and G. Szego, Isoperimetric Inequalities in Mathematical Physics,
+  Princeton 1951).  With holes it does NOT hold for the net area (a thin tube of radii
+  R > r has ``J / (A^2 / 2 pi) = (R^2 + r^2) / (R^2 - r^2) > 1``, closed form of
+  Timoshenko & Goodier sec. 104), so there ``A`` is the area the outer loop encloses:
+  filling the holes can only raise J (monotonicity, DEVELOPERS.md "Bounds for the
+  drawn outline", fact 2).  Checked on ``J_lo``.
+- ``J >= pi r^4 / 2`` for any disc of radius r inside the material: the same
+  monotonicity argument (the disc's stress function, extended by zero, is admissible
+  for the section) and the circle's closed form (Timoshenko & Goodier sec. 104).
+  Checked on ``J_hi`` with the disc from ``shapely.maximum_inscribed_circle``.
+- The peak shear lies on the boundary (``|grad phi|^2`` is subharmonic: maximum
+  principle, Timoshenko & Goodier ch. 10 - from memory).
+- J, tau/T, A and Ip are properties of the shape: unchanged by translation, rotation,
+  mirroring and the order and direction of the loops (Saint-Venant theory; same
+  source).  Different meshes of the same shape give different numbers, so the check
+  is that the two certified brackets overlap and the two peaks differ by no more than
+  the sum of their estimated errors (``estimated_relative_error["max_shear"]``).
+  The peaks do not always (about 1 example in 100 on one coarse mesh, more with
+  adaptive solves at tol 1e-2 beside sharp corners; the benchmark counts them): CI
+  checks the brackets, A and Ip on random sections and keeps the smallest failing
+  peak examples found as strict xfail tests at the end of this file.
+- Dimensional analysis (common practice, no source): ``J ~ s^4``, ``tau/T ~ s^-3``,
+  ``A ~ s^2``, ``Ip ~ s^4``.  Scaled by a power of two with the mesh size scaled too,
+  every floating-point operation scales exactly (IEEE 754), so the laws hold to
+  rounding; by any other factor within the brackets and estimates.
+- Determinism: the same profile solved twice gives the same ``to_dict()``.
+
+``CI`` below runs a few hundred examples in all (about 40 s on 2 cores);
+``tests/bench/bench_properties.py`` runs up to 10 000 with the same strategies and
+checks, peaks included, and prints the worst margins and every failure.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+
+import numpy as np
+import pytest
+import shapely
+from hypothesis import HealthCheck, assume, given, note, settings
+from hypothesis import strategies as st
+from shapely.geometry import LinearRing, Point, Polygon
+
+from soapfilm import Profile, analyse
+from soapfilm.mesh import default_mesh_size, mesh_profile
+
+# ---------------------------------------------------------------------------- settings
+
+_COMMON = dict(
+    deadline=None,
+    database=None,
+    print_blob=True,
+    suppress_health_check=[HealthCheck.too_slow, HealthCheck.filter_too_much,
+                           HealthCheck.data_too_large],
+)
+#: CI: deterministic (the same examples every run), a few hundred in all.
+CI = settings(derandomize=True, **_COMMON)
+#: element cap in CI: quadratic elements stay below the direct solver's limit
+#: (soapfilm.fem.linsolve.DIRECT_LIMIT unknowns), where a solve is exact to rounding.
+CI_MAX_ELEMENTS = 6000
+#: the benchmark's cap (about 18 000 quadratic unknowns)
+BENCH_MAX_ELEMENTS = 9000
+
+# ------------------------------------------------------------------ section strategy
+
+
+def star_loop(weights, radii, phase=0.0, centre=(0.0, 0.0)) -> np.ndarray:
+    """Vertices at radii ``radii`` and angles ``phase + 2 pi cumsum(w) / sum(w)``.
+
+    With every weight under half the sum the angular gaps are under pi, so the
+    polygon is simple and star-shaped about ``centre``.
+    """
+    w = np.asarray(weights, dtype=float)
+    th = phase + 2.0 * math.pi * np.cumsum(w) / w.sum()
+    r = np.asarray(radii, dtype=float)
+    return np.column_stack([centre[0] + r * np.cos(th), centre[1] + r * np.sin(th)])
+
+
+def fitted_hole(outer, holes, shape, centre, gap):
+    """Largest copy of ``shape`` scaled about ``centre`` at least ``gap`` from every loop.
+
+    ``shape`` is star-shaped about ``centre``, so its scaled copies are nested and
+    the distance to the other loops falls as the factor grows: bisection.  None when
+    ``centre`` itself is closer than ``gap`` to a loop.
+    """
+    opoly, oring = Polygon(outer), LinearRing(outer)
+    others = [Polygon(h) for h in holes]
+    c = np.asarray(centre, dtype=float)
+
+    def clear(k):
+        hp = Polygon(c + k * (shape - c))
+        if not opoly.contains(hp) or LinearRing(hp.exterior.coords).distance(oring) < gap:
+            return False
+        return all(hp.distance(o) >= gap for o in others)
+
+    lo, hi = 1e-9, 4.0
+    if not clear(lo):
+        return None
+    for _ in range(48):
+        mid = 0.5 * (lo + hi)
+        if clear(mid):
+            lo = mid
+        else:
+            hi = mid
+    return lo
+
+
+@dataclass(frozen=True)
+class Case:
+    """One random section: its loops (outer first) and how it was made."""
+
+    loops: tuple
+    aspect: float  # y scaled by this (1e-3 ... 1)
+    size: float  # largest extent of the bounding box
+    #: per hole, its smallest distance to the other loops over the size, before stretching
+    gaps: tuple = field(default=())
+
+    def profile(self) -> Profile:
+        return Profile.from_loops([np.array(lp) for lp in self.loops], units="mm")
+
+    def __repr__(self) -> str:  # every digit: the failing section can be rebuilt from the report
+        loops = ", ".join("[" + ", ".join(f"({x!r}, {y!r})" for x, y in lp) + "]"
+                          for lp in self.loops)
+        return (f"Case(aspect={self.aspect!r}, size={self.size!r}, gaps={self.gaps!r}, "
+                f"loops=[{loops}])")
+
+
+@st.composite
+def sections(draw, max_holes: int = 3, smooth: bool = False) -> Case:
+    """A valid section: star-shaped outside, 0..max_holes star-shaped holes, stretched, scaled.
+
+    ``smooth``: no sharp re-entrant corner (where the stress is unbounded): the outside
+    is the convex hull of the star, the holes are rounded stars of 24-40 points, each
+    turning by less than 30 degrees (a traced curve, soapfilm.corners.traced_runs), and
+    no stretching.
+    """
+    n = draw(st.integers(3, 14), label="outer vertices")
+    weights = draw(st.lists(st.floats(1.0, 1.9), min_size=n, max_size=n))
+    radii = draw(st.lists(st.floats(0.15, 1.0), min_size=n, max_size=n))
+    phase = draw(st.floats(0.0, 2 * math.pi))
+    outer = star_loop(weights, radii, phase)
+    if smooth:
+        outer = np.asarray(shapely.MultiPoint(outer).convex_hull.exterior.coords)[:-1]
+    unit_size = float(np.max(np.ptp(outer, axis=0)))
+    r_in = Point(0.0, 0.0).distance(LinearRing(outer))  # the disc about 0 is inside (star-shaped)
+    holes, gaps = [], []
+    for _ in range(draw(st.integers(0, max_holes), label="holes")):
+        rho, psi = draw(st.floats(0.0, 0.9)), draw(st.floats(0.0, 2 * math.pi))
+        centre = (rho * r_in * math.cos(psi), rho * r_in * math.sin(psi))
+        if smooth:
+            m = draw(st.integers(24, 40))
+            eps, lobes = draw(st.floats(0.0, 0.2)), draw(st.integers(2, 3))
+            th = 2 * math.pi * np.arange(m) / m
+            hole_radii = 1.0 + eps * np.cos(lobes * th + draw(st.floats(0.0, 2 * math.pi)))
+            shape = star_loop(np.ones(m), hole_radii, 0.0, centre)
+        else:
+            m = draw(st.integers(3, 10))
+            shape = star_loop(draw(st.lists(st.floats(1.0, 1.9), min_size=m, max_size=m)),
+                              draw(st.lists(st.floats(0.3, 1.0), min_size=m, max_size=m)),
+                              draw(st.floats(0.0, 2 * math.pi)), centre)
+        gap = 10.0 ** draw(st.floats(-3.0, -1.0), label="log10 gap/size") * unit_size
+        fill = draw(st.one_of(st.just(1.0), st.floats(0.3, 1.0)), label="fill (1: near-touching)")
+        k = fitted_hole(outer, holes, shape, centre, gap)
+        if k is None or k * fill * 0.3 < 1e-3 * unit_size:
+            continue  # no room here: the section keeps fewer holes
+        hole = np.asarray(centre) + k * fill * (shape - np.asarray(centre))
+        hp = Polygon(hole)
+        dist = min([LinearRing(hole).distance(LinearRing(outer))]
+                   + [hp.distance(Polygon(h)) for h in holes])
+        holes.append(hole)
+        gaps.append(dist / unit_size)
+    aspect = 1.0 if smooth else 10.0 ** draw(st.floats(-3.0, 0.0), label="log10 aspect")
+    size = 10.0 ** draw(st.floats(-4.0, 6.0), label="log10 size")
+    stretch = np.array([1.0, aspect])
+    stretch *= size / float(np.max(np.ptp(outer * stretch, axis=0)))
+    loops = tuple(tuple((float(x), float(y)) for x, y in lp * stretch) for lp in [outer, *holes])
+    return Case(loops, aspect, size, tuple(gaps))
+
+
+def mesh_size_for(profile: Profile, coarseness: float, max_elements: int) -> float | None:
+    """``coarseness`` times the default element size, doubled until the mesh has at most
+    ``max_elements`` elements (Triangle refines near sharp tips and narrow gaps whatever
+    the size asked); None if four doublings do not get there."""
+    h = coarseness * default_mesh_size(profile)
+    for _ in range(5):
+        if mesh_profile(profile, h).nelements <= max_elements:
+            return h
+        h *= 2.0
+    return None
+
+
+# -------------------------------------------------------------------------- checks
+
+
+@dataclass(frozen=True)
+class Margin:
+    """One checked inequality: ``value <= limit`` must hold.
+
+    ``value`` is a relative violation (negative: the property holds with room to
+    spare), or for the peaks the ratio of the difference to the sum of the estimates.
+    """
+
+    name: str
+    value: float
+    limit: float
+
+    @property
+    def ok(self) -> bool:
+        return bool(self.value <= self.limit)  # NaN fails
+
+
+def failed(margins) -> list[Margin]:
+    return [m for m in margins if not m.ok]
+
+
+def assert_margins(margins) -> None:
+    bad = failed(margins)
+    assert not bad, "; ".join(f"{m.name}: {m.value:.3e} > {m.limit:.1e}" for m in bad)
+
+
+#: rounding allowance of the J inequalities (relative); the benchmark reports the
+#: largest value seen, the properties themselves are exact
+ROUNDING = 1e-10
+
+
+def bound_margins(profile: Profile, r) -> list[Margin]:
+    """Inequalities of one result: order of the bounds, Ip, Saint-Venant, inscribed disc,
+    area (shapely's as the reference), peak on the boundary."""
+    lo, hi = r.torsion_constant_bounds
+    outer_area = Polygon(profile.outer).area
+    sv = outer_area**2 / (2.0 * math.pi)
+    disc = shapely.maximum_inscribed_circle(profile.polygon, 1e-3 * profile.size)
+    r_disc = disc.length  # centre to the nearest boundary point
+    j_disc = math.pi * r_disc**4 / 2.0
+    peak = Point(*r.peak_location)
+    boundary = profile.polygon.boundary
+    return [
+        Margin("J_lo > 0", -lo / hi, 0.0),
+        Margin("J_lo <= J_hi", (lo - hi) / hi, ROUNDING),
+        Margin("J_hi <= Ip", (hi - r.polar_moment) / r.polar_moment, ROUNDING),
+        Margin("Saint-Venant J_lo <= A_outer^2/(2 pi)", (lo - sv) / sv, ROUNDING),
+        Margin("inscribed disc pi r^4/2 <= J_hi", (j_disc - hi) / hi, ROUNDING),
+        Margin("area = shapely area", abs(r.area / profile.polygon.area - 1.0), 1e-9),
+        Margin("peak on the boundary", boundary.distance(peak) / profile.size, 1e-9),
+    ]
+
+
+def overlap(a, b) -> float:
+    """Relative gap between two brackets (negative: they overlap)."""
+    (alo, ahi), (blo, bhi) = a, b
+    return (max(alo, blo) - min(ahi, bhi)) / min(ahi, bhi)
+
+
+def peak_ratio(ra, rb, scale_b: float = 1.0) -> float:
+    """|tau_a - tau_b| over the sum of their estimated errors (<= 1 must hold)."""
+    ta, tb = ra.max_shear_per_torque, rb.max_shear_per_torque * scale_b
+    ea = ra.estimated_relative_error["max_shear"] * ta
+    eb = rb.estimated_relative_error["max_shear"] * tb
+    return abs(ta - tb) / (ea + eb) if ea + eb > 0 else (0.0 if ta == tb else math.inf)
+
+
+def same_shape_margins(what: str, ra, rb, scale: float = 1.0, peaks: bool = True) -> list[Margin]:
+    """``rb`` solves the section of ``ra`` moved, or scaled by ``scale``, on another mesh."""
+    s2, s4 = scale**2, scale**4
+    out = [
+        Margin(f"{what}: J brackets overlap",
+               overlap(ra.torsion_constant_bounds, [v / s4 for v in rb.torsion_constant_bounds]),
+               ROUNDING),
+        Margin(f"{what}: area", abs(rb.area / (s2 * ra.area) - 1.0), 1e-9),
+        Margin(f"{what}: Ip", abs(rb.polar_moment / (s4 * ra.polar_moment) - 1.0), 1e-9),
+    ]
+    if peaks:
+        out.append(Margin(f"{what}: peaks within their estimates", peak_ratio(ra, rb, scale**3), 1.0))
+    return out
+
+
+@dataclass(frozen=True)
+class Outcome:
+    """The margins one example checked, and the size of its (first) mesh."""
+
+    margins: list
+    elements: int
+
+
+def check_bounds(case: Case, order: int, coarse: float, max_elements: int) -> Outcome | None:
+    """One coarse solve: the inequalities of :func:`bound_margins`."""
+    prof = case.profile()
+    h = mesh_size_for(prof, coarse, max_elements)
+    if h is None:
+        return None
+    r = analyse(prof, mesh_size=h, order=order)
+    return Outcome(bound_margins(prof, r), r.mesh.nelements)
+
+
+def moved_profile(prof: Profile, mirror: bool, degrees: float, shift, loop_order) -> Profile:
+    """The same shape mirrored (x -> -x), turned, shifted (in sizes), loops re-ordered,
+    re-started and reversed."""
+    p = prof
+    if mirror:
+        p = p.transformed([[-1.0, 0.0], [0.0, 1.0]])
+    if degrees:
+        p = p.rotated(degrees)
+    if shift[0] or shift[1]:
+        p = p.translated(shift[0] * prof.size, shift[1] * prof.size)
+    perm, rolls, flips = loop_order
+    loops = list(p.loops)
+    loops = [loops[0], *(loops[1 + i] for i in perm)]
+    loops = [np.roll(lp, rolls[i] % len(lp), axis=0) for i, lp in enumerate(loops)]
+    loops = [lp[::-1] if flips[i] else lp for i, lp in enumerate(loops)]
+    return Profile.from_loops(loops, units=prof.units)
+
+
+def check_motion(case: Case, order: int, coarse: float, max_elements: int, motion, loop_order,
+                 peaks: bool = False) -> Outcome | None:
+    """Coarse solves of the section and of its moved copy (same mesh size, other mesh).
+
+    ``peaks``: also compare the single-solve peaks within their estimates (the
+    benchmark does; CI does not, see :func:`test_single_solve_peak_estimate_covers_another_mesh`).
+    """
+    prof = case.profile()
+    h = mesh_size_for(prof, coarse, max_elements)
+    if h is None:
+        return None
+    moved = moved_profile(prof, *motion, loop_order)
+    ra = analyse(prof, mesh_size=h, order=order)
+    rb = analyse(moved, mesh_size=h, order=order)
+    return Outcome(same_shape_margins("moved", ra, rb, peaks=peaks) + bound_margins(moved, rb),
+                   ra.mesh.nelements)
+
+
+def check_scaling(case: Case, order: int, coarse: float, max_elements: int, power: int,
+                  factor: float, peaks: bool = False) -> Outcome | None:
+    """Scaled by ``2**power`` (exact laws) and by ``factor`` (within the brackets)."""
+    prof = case.profile()
+    h = mesh_size_for(prof, coarse, max_elements)
+    if h is None:
+        return None
+    ra = analyse(prof, mesh_size=h, order=order)
+    s = 2.0**power
+    rb = analyse(prof.scaled(s), mesh_size=h * s, order=order)
+    exact = [
+        ("J_lo", ra.torsion_constant_bounds[0] * s**4, rb.torsion_constant_bounds[0]),
+        ("J_hi", ra.torsion_constant_bounds[1] * s**4, rb.torsion_constant_bounds[1]),
+        ("tau/T", ra.max_shear_per_torque / s**3, rb.max_shear_per_torque),
+        ("A", ra.area * s**2, rb.area),
+        ("Ip", ra.polar_moment * s**4, rb.polar_moment),
+        ("elements", ra.mesh.nelements, rb.mesh.nelements),
+    ]
+    margins = [Margin(f"scaled by 2^k: {name}", abs(b / a - 1.0), 1e-12) for name, a, b in exact]
+    rc = analyse(prof.scaled(factor), mesh_size=h * factor, order=order)
+    return Outcome(margins + same_shape_margins("scaled", ra, rc, factor, peaks=peaks),
+                   ra.mesh.nelements)
+
+
+def check_determinism(case: Case, order: int, coarse: float, max_elements: int) -> Outcome | None:
+    """The same section solved twice (a fresh Profile the second time): the same JSON."""
+    prof = case.profile()
+    h = mesh_size_for(prof, coarse, max_elements)
+    if h is None:
+        return None
+    first = analyse(prof, mesh_size=h, order=order)
+    second = analyse(case.profile(), mesh_size=h, order=order).to_dict()
+    a = first.to_dict()
+    differ = sorted(k for k in a if a[k] != second.get(k))
+    name = "same to_dict twice" + (f" (differ: {', '.join(differ)})" if differ else "")
+    return Outcome([Margin(name, float(len(differ)), 0.0)], first.mesh.nelements)
+
+
+def check_adaptive_peak(case: Case, order: int, tol: float, max_elements: int, motion,
+                        loop_order) -> Outcome | None:
+    """Adaptive solves (``tol``) of the section and its moved copy: brackets and peaks."""
+    prof = case.profile()
+    if mesh_size_for(prof, 1.0, max_elements) is None:
+        return None  # the default start alone is above the cap
+    moved = moved_profile(prof, *motion, loop_order)
+    ra = analyse(prof, tol=tol, order=order, max_elements=max_elements)
+    rb = analyse(moved, tol=tol, order=order, max_elements=max_elements)
+    return Outcome(same_shape_margins("adaptive, moved", ra, rb, peaks=True), ra.mesh.nelements)
+
+
+# ------------------------------------------------------------------ shared strategies
+
+orders = st.sampled_from([1, 2])
+coarseness = st.sampled_from([3.0, 4.0, 6.0])
+#: what moves the section: mirror, angle, shift (in sizes)
+motions = st.tuples(
+    st.booleans(),
+    st.one_of(st.just(0.0), st.floats(-180.0, 180.0)),
+    st.tuples(st.floats(-100.0, 100.0), st.floats(-100.0, 100.0)),
+)
+powers = st.integers(-10, 10)
+factors = st.floats(-3.0, 3.0).map(lambda e: 10.0**e)
+
+
+@st.composite
+def loop_orders(draw, case: Case):
+    """Holes in any order, every loop started at any vertex, in either direction."""
+    nh = len(case.loops) - 1
+    perm = draw(st.permutations(range(nh)))
+    rolls = draw(st.lists(st.integers(0, 20), min_size=nh + 1, max_size=nh + 1))
+    flips = draw(st.lists(st.booleans(), min_size=nh + 1, max_size=nh + 1))
+    return perm, rolls, flips
+
+
+def run(outcome: Outcome | None) -> None:
+    assume(outcome is not None)  # the mesh would be above this run's element cap
+    for m in outcome.margins:
+        note(f"{m.name}: {m.value:.3e} (limit {m.limit:g})")
+    assert_margins(outcome.margins)
+
+
+# ---------------------------------------------------------------------------- tests
+
+
+@settings(CI, max_examples=80)
+@given(sections(), orders, coarseness)
+def test_bounds_and_inequalities(case, order, coarse):
+    """J_lo <= J_hi <= Ip, Saint-Venant, inscribed disc, area, peak on the boundary."""
+    run(check_bounds(case, order, coarse, CI_MAX_ELEMENTS))
+
+
+@settings(CI, max_examples=60)
+@given(sections(), orders, coarseness, motions, st.data())
+def test_invariance_under_motion_and_loop_order(case, order, coarse, motion, data):
+    """Brackets of the moved copy overlap the section's; A and Ip agree; its bounds hold."""
+    run(check_motion(case, order, coarse, CI_MAX_ELEMENTS, motion,
+                     data.draw(loop_orders(case), label="loop order")))
+
+
+@settings(CI, max_examples=40)
+@given(sections(), orders, coarseness, powers, factors)
+def test_scaling_laws(case, order, coarse, power, factor):
+    """J ~ s^4, tau/T ~ s^-3, A ~ s^2, Ip ~ s^4: exact for s = 2^k, within brackets otherwise."""
+    run(check_scaling(case, order, coarse, CI_MAX_ELEMENTS, power, factor))
+
+
+@settings(CI, max_examples=25)
+@given(sections(), orders, coarseness)
+def test_determinism(case, order, coarse):
+    run(check_determinism(case, order, coarse, CI_MAX_ELEMENTS))
+
+
+def test_generator_makes_what_it_says():
+    """The sections are valid, have the size asked and cover the ranges the issue names:
+    sizes 1e-4 to 1e6, aspect to 1:1000, holes near-touching at 1e-3 of the size."""
+    seen = []
+
+    @settings(CI, max_examples=150)
+    @given(sections())
+    def one(case):
+        p = case.profile()  # valid: Profile.from_loops accepts it
+        assert p.size == pytest.approx(case.size, rel=1e-9)
+        assert len(p.holes) == len(case.loops) - 1
+        assert all(g >= 1e-3 * (1 - 1e-6) for g in case.gaps)  # bisection keeps the gap
+        seen.append(case)
+
+    one()
+    sizes = [c.size for c in seen]
+    assert min(sizes) < 1e-3 and max(sizes) > 1e5
+    assert min(c.aspect for c in seen) < 3e-3
+    assert sum(bool(c.gaps) for c in seen) > 30
+    assert min(g for c in seen for g in c.gaps) < 5e-3
+
+
+def test_saint_venant_needs_the_filled_outline_with_holes():
+    """Why the check above uses the outer loop's area: a tube breaks J <= A_net^2 / (2 pi).
+
+    Closed form of the tube (Timoshenko & Goodier, 3rd ed., sec. 104):
+    ``J = pi (R^4 - r^4) / 2``; ``A = pi (R^2 - r^2)``.  For R = 1, r = 0.9 the
+    ratio ``J / (A^2 / 2 pi) = (R^2 + r^2) / (R^2 - r^2) = 9.53``; the computed lower
+    bound shows it too, and stays below the filled disc's ``(pi R^2)^2 / (2 pi)``.
+    """
+    th = np.linspace(0.0, 2.0 * math.pi, 96, endpoint=False)
+    ring = np.column_stack([np.cos(th), np.sin(th)])
+    r = analyse(Profile.from_loops([ring, 0.9 * ring]), mesh_size=0.03, order=2)
+    lo, hi = r.torsion_constant_bounds
+    assert lo > 9.0 * r.area**2 / (2 * math.pi)  # closed form 9.53 for the circles; polygon: close
+    assert hi <= Polygon(ring).area ** 2 / (2 * math.pi)
+
+
+# ------------------------------------------------- peaks: where the estimates fall short
+#
+# The peaks of two meshes of the same shape must agree within the sum of their
+# estimated errors.  The benchmark (tests/bench/bench_properties.py) measures how
+# often they do not; these are the smallest sections found by it and by hypothesis's
+# shrinking, one per cause.  They fail today (strict xfail): when the peak rule or its
+# estimate is fixed they pass, and the marker must go.
+
+
+def _peaks_agree(ra, rb) -> None:
+    ratio = peak_ratio(ra, rb)
+    assert ratio <= 1.0, (
+        f"tau/T {ra.max_shear_per_torque:.6g} and {rb.max_shear_per_torque:.6g} differ by "
+        f"{ratio:.2f} times the sum of their estimates "
+        f"({ra.estimated_relative_error['max_shear']:.2e}, "
+        f"{rb.estimated_relative_error['max_shear']:.2e})")
+
+
+@pytest.mark.xfail(strict=True, raises=AssertionError, reason=(
+    "the zone left out round sharp corners is 2.5 % of Profile.size, the bounding box's "
+    "largest extent, which grows by up to sqrt(2) when the section turns "
+    "(soapfilm.solve.corner_zone_radius): the peak beside a corner depends on orientation"))
+def test_peak_does_not_depend_on_orientation():
+    """An L section 60 x 60 x 10 (invented) and the same turned by 45 degrees.
+
+    Measured: tau/T 3.423e-4 (est 0.65 %) and 3.238e-4 (est 0.52 %), 5.4 % apart, at
+    tol 1e-2; at tol 1e-3 3.4548e-4 and 3.2454e-4 (est 0.10 % and 0.07 %).
+    """
+    ell = np.array([[0, 0], [60, 0], [60, 10], [10, 10], [10, 60], [0, 60]], dtype=float)
+    prof = Profile.from_loops([ell])
+    _peaks_agree(analyse(prof, tol=1e-2), analyse(prof.rotated(45.0), tol=1e-2))
+
+
+@pytest.mark.xfail(strict=True, raises=AssertionError, reason=(
+    "at tol 1e-2 the adaptive estimate stops short beside a weak (196 deg) re-entrant "
+    "corner: 13.2776 with estimate 0.13 % where tol 1e-4 gives 13.5197"))
+def test_adaptive_peak_beside_a_weak_corner():
+    """Hexagon with one 196-degree corner, hypothesis's shrunk example, and the same
+    moved up by its size.  Measured at tol 1e-2: tau/T 13.4079 (est 0.63 %) and 13.2776
+    (est 0.13 %); both 13.5197 at tol 1e-4 (est 4e-5 and 3e-6)."""
+    hexagon = [(0.1443375672974065, 0.25), (-0.2886751345948128, 0.5000000000000001),
+               (-0.5773502691896258, 7.07050159149938e-17), (-0.2886751345948132, -0.4999999999999999),
+               (0.288675134594813, -0.5), (0.14433756729740646, -3.53525079574969e-17)]
+    prof = Profile.from_loops([hexagon])
+    _peaks_agree(analyse(prof, tol=1e-2), analyse(prof.translated(0.0, 1.0), tol=1e-2))
+
+
+@pytest.mark.xfail(strict=True, raises=AssertionError, reason=(
+    "at tol 1e-2 the adaptive estimate stops short where the peak lies on a hole given "
+    "as a 30-point polygon (a traced concave curve): 4.7702e4 with estimate 0.78 % where "
+    "tol 1e-4 gives 4.7088e4"))
+def test_adaptive_peak_on_a_traced_hole():
+    """Convex 10-gon with a rounded 30-point hole (the smooth variant of the sections),
+    and the same shifted by (100, 84) sizes.  Measured at tol 1e-2: tau/T 47 701.6
+    (est 0.78 %) and 47 112.9 (est 0.067 %); tol 1e-4: 47 088.2 (est 6e-5)."""
+    outer = [(-0.003116010182780474, -0.031014496826565124), (-0.01787766912913189, -0.025534241311883425),
+             (-0.02967279638913625, -0.009546396561691348), (-0.029105822163858246, 0.011156148485479557),
+             (-0.014101456646596884, 0.027798515307626743), (0.0017458548321309926, 0.03112170502670659),
+             (0.02376505474023726, 0.020170044770841146), (0.03117062016155599, 3.117063055176964e-05),
+             (0.027723813564746184, -0.01424776102731251), (0.010768205771236838, -0.029251568801220068)]
+    hole = np.array([
+        0.009338372145069464, -0.012893360306368506, 0.008648149483889749, -0.01077721739983278,
+        0.007529563049141218, -0.008853998396495403, 0.006034295446324346, -0.00720900161438308,
+        0.004230689707059028, -0.005913485196438538, 0.0021996192753798234, -0.005021795760141112,
+        3.0171482247196152e-05, -0.004569861652886615, -0.0021843681536847003, -0.004574784941615735,
+        -0.004350008634514214, -0.0050351060360342694, -0.006375093741619872, -0.005931342805456363,
+        -0.008173164756952794, -0.007226599068999439, -0.009665957155979761, -0.00886730867238856,
+        -0.010786698987579375, -0.010784414355124235, -0.011483613445066007, -0.012895373818529376,
+        -0.011723249360194128, -0.015107291894539906, -0.011493086275003835, -0.017321223482711316,
+        -0.010802863613824121, -0.019437366389247045, -0.009684277179075591, -0.02136058539258442,
+        -0.00818900957625872, -0.023005582174696743, -0.006385403836993404, -0.024301098592641283,
+        -0.004354333405314196, -0.02519278802893871, -0.0021848856121815764, -0.025644722136193208,
+        2.9654023750324784e-05, -0.02563979884746409, 0.0021952945045798406, -0.025179477753045555,
+        0.004220379611685503, -0.024283240983623458, 0.0060184506270184275, -0.02298798472008038,
+        0.007511243026045389, -0.021347275116691267, 0.008631984857645002, -0.01943016943395559,
+        0.009328899315131634, -0.017319209970550444, 0.009568535230259755, -0.015107291894539923,
+    ]).reshape(-1, 2)
+    prof = Profile.from_loops([outer, hole])
+    moved = prof.translated(100.0 * prof.size, 84.0886489087334 * prof.size)
+    _peaks_agree(analyse(prof, tol=1e-2), analyse(moved, tol=1e-2))
+
+
+@pytest.mark.xfail(strict=True, raises=AssertionError, reason=(
+    "one mesh: the estimate (twice the two fields' disagreement plus the half-bracket) "
+    "misses the error in a narrow ligament beside a near-touching hole: 724.51 with "
+    "estimate 0.13 % where tol 1e-4 gives 768.03"))
+def test_single_solve_peak_estimate_covers_another_mesh():
+    """Quadrilateral with a 7-point hole 0.01 of the size from it (hypothesis's shrunk
+    example), quadratic elements, mesh size 3 x default, and the same shifted by its
+    size.  Measured: tau/T 724.512 (est 0.128 %) and 730.109 (est 0.103 %)."""
+    outer = [(0.42493549154185417, 0.19253750811260978), (-0.5750645084581457, 0.015413597480223482),
+             (0.016297513966328957, -0.038673168851308844), (0.2907800268795524, -1.2665006579535536e-17)]
+    hole = [(0.14980437187638485, 0.02958605436399727), (-0.02340174045874785, 0.03959386899269528),
+            (-0.18112201344241402, 0.023400884770353503), (-0.21898682490057167, -0.008277372561254454),
+            (-0.055969780209113654, -0.01723908570614712), (0.11235327890728868, -0.02218954077299795),
+            (0.1958942307318976, -3.947233946076142e-17)]
+    prof = Profile.from_loops([outer, hole])
+    h = 3.0 * default_mesh_size(prof)
+    moved = prof.translated(prof.size, 0.0)
+    _peaks_agree(analyse(prof, mesh_size=h, order=2), analyse(moved, mesh_size=h, order=2))
