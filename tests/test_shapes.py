@@ -370,7 +370,7 @@ IMPOSSIBLE = [
     (box_tube, dict(width=80, height=60, wall=30), "no hollow is left"),
     (box_tube, dict(width=80, height=60, wall=5, outer_radius=30, inner_radius=0),
      "no wall is left"),
-    (regular_polygon, dict(sides=6, across_flats=19, corner_radius=10), "nothing of the polygon"),
+    (regular_polygon, dict(sides=6, across_flats=19, corner_radius=10), "more than half the size across"),
     (regular_polygon, dict(sides=2, across_flats=19), "sides must be from 3"),
     (keyed_shaft, dict(diameter=40, key_width=12, key_depth=25), "deeper than the shaft"),
     (keyed_shaft, dict(diameter=40, key_width=12, key_depth=5, floor_radius=7),

@@ -128,7 +128,7 @@ class Mesh:
             "segment_markers": codes.reshape(-1, 1),
             "triangle_max_area": limit.reshape(-1, 1),
         }
-        out = tr.triangulate(data, f"rpq{MIN_ANGLE:g}aQ")
+        out = _triangulated(data, f"rpq{MIN_ANGLE:g}aQ")
         return _from_triangle(out, table, self.curves)
 
     def curve_nodes(self) -> tuple[np.ndarray, np.ndarray]:
@@ -233,8 +233,36 @@ def mesh_profile(profile: Profile, size: float | None = None) -> Mesh:
     if hole_pts:
         data["holes"] = np.array(hole_pts)
     area_text = np.format_float_positional(max_area, unique=True, trim="-")  # every digit
-    out = tr.triangulate(data, f"pq{MIN_ANGLE:g}a{area_text}Q")
+    out = _triangulated(data, f"pq{MIN_ANGLE:g}a{area_text}Q")
     return _from_triangle(out, table, profile.curves)
+
+
+def _triangulated(data: dict, switches: str) -> dict:
+    """Triangle's ``triangulate`` with its C-level printing kept off the terminal.
+
+    Even in quiet mode (``Q``) Triangle prints why it gives up on standard
+    output, which would break ``--json -``; the text goes into the error instead.
+    """
+    from .quiet import c_output_captured
+
+    failed = False
+    with c_output_captured() as said:
+        try:
+            out = tr.triangulate(data, switches)
+        except RuntimeError:
+            failed = True
+    text = " ".join(" ".join(said).split())
+    if not failed:
+        return out
+    if "precision" in text:
+        at = text[text.find(" at ") + 4: text.find(")") + 1] if " at (" in text else ""
+        raise SolveError(
+            "the mesher ran out of floating-point precision"
+            + (f" near {at}" if at else "")
+            + ": a feature there is too small for the numbers that place it (a sliver, a "
+              "near-touching pair of edges, or coordinates far from the origin)")
+    raise SolveError("the mesher could not triangulate the section"
+                     + (f" (Triangle: {text})" if text else ""))
 
 
 def _encoded(markers: np.ndarray, curves: np.ndarray) -> tuple[np.ndarray, np.ndarray]:

@@ -26,6 +26,11 @@ __all__ = ["Profile", "LENGTH_UNITS"]
 
 from .defaults import LENGTH_UNITS  # noqa: E402  (re-exported: its home is defaults)
 
+#: Largest coordinate (absolute value) and smallest extent of a section, in its own unit:
+#: the fourth powers (J, second moments) stay within floating-point range, 1e+-200
+COORDINATE_LIMIT = 1e50
+SMALLEST_SPAN = 1e-50
+
 
 def _signed_area(xy: np.ndarray) -> float:
     x, y = xy[:, 0], xy[:, 1]
@@ -64,6 +69,27 @@ def _clean_loop(xy, label: str, tol: float, tags=None) -> tuple[np.ndarray, np.n
             fix="add points or join it to the loop it belongs to",
         )
     return xy, tg
+
+
+def _check_scale(xy: np.ndarray, span: float, label: str) -> None:
+    """Refuse coordinates whose section the arithmetic cannot carry.
+
+    J grows with the fourth power of the size (and the second moments with the
+    fourth power of the coordinates), so a section beyond ``COORDINATE_LIMIT``
+    from the origin or under ``SMALLEST_SPAN`` across would leave the range of
+    floating-point numbers (about 1e-308 to 1e308) in the mesher or the solver.
+    """
+    far = float(np.max(np.abs(xy))) if len(xy) else 0.0
+    if far > COORDINATE_LIMIT:
+        raise GeometryError(
+            f"a coordinate reaches {far:.3g}, beyond the {COORDINATE_LIMIT:.0e} this tool takes "
+            "(J grows with the fourth power of the size and would overflow)",
+            where=label, fix="check the numbers and their unit")
+    if 0.0 < span < SMALLEST_SPAN:
+        raise GeometryError(
+            f"the section is {span:.3g} across, under the {SMALLEST_SPAN:.0e} this tool takes "
+            "(J shrinks with the fourth power of the size and would underflow)",
+            where=label, fix="check the numbers and their unit")
 
 
 def _reversed_tags(tags: np.ndarray) -> np.ndarray:
@@ -183,6 +209,7 @@ class Profile:
         if not np.all(np.isfinite(allpts)):
             raise GeometryError("non-finite coordinate", where=labels[0], fix="give finite numbers")
         span = float(np.max(np.ptp(allpts, axis=0))) if len(allpts) else 0.0
+        _check_scale(allpts, span, labels[0])
         tol = 1e-9 * max(span, 1e-300)
         tag_in = list(edge_curves) if edge_curves is not None else [None] * len(loops)
         if len(tag_in) != len(loops):

@@ -85,7 +85,16 @@ def _repeatable(func):
 
 
 def solve_fields(mesh: Mesh, order: int = 1, method: str = "auto") -> TorsionFields:
-    """Both torsion problems on ``mesh`` with elements of the given order."""
+    """Both torsion problems on ``mesh`` with elements of the given order.
+
+    Raises
+    ------
+    InputError
+        When the stress function has no unknown on the mesh (no node inside
+        the section and no hole): it would be zero, and so would J's lower
+        bound and the peak shear.
+    """
+    _check_unknowns(mesh, order)
     if order == 1:
         return solve_torsion(mesh, method=method)
     if order == 2:
@@ -93,6 +102,28 @@ def solve_fields(mesh: Mesh, order: int = 1, method: str = "auto") -> TorsionFie
 
         return solve_torsion_p2(mesh, method=method)
     raise ValueError(f"element order must be 1 or 2, got {order}")
+
+
+def _check_unknowns(mesh: Mesh, order: int) -> None:
+    """Refuse a mesh on which the stress function has nothing to solve for.
+
+    Its unknowns are the nodes inside the section (for quadratic elements also
+    the mid-side nodes of edges between two triangles) and one per hole.
+    """
+    if mesh.nholes > 0:
+        return
+    inside = mesh.nnodes - len(np.unique(mesh.segments))
+    if order == 2:
+        inside += 3 * mesh.nelements - mesh.segments.shape[1]  # twice the inner edges
+    if inside > 0:
+        return
+    from .errors import InputError
+
+    raise InputError(
+        f"the mesh has no node inside the section ({mesh.nelements} element(s), every node on "
+        "the boundary): the stress function has nothing to solve for, so J and the shear "
+        "cannot be found on it",
+        fix="use a finer mesh: refine a mesh file in its mesher, or give a smaller --mesh-size")
 
 
 def boundary_shear(mesh: Mesh, fields: TorsionFields) -> tuple[np.ndarray, np.ndarray, np.ndarray]:

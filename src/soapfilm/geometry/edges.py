@@ -303,6 +303,9 @@ def resampled_loop(xy: np.ndarray, edge_curve: np.ndarray, curves: Sequence[Curv
         tv = unwrapped(cv, cv.project(xy[idx]))
         if closed:  # a whole closed curve: end where it started
             tv[-1] = tv[0] + math.copysign(cv.period or 0.0, tv[-2] - tv[0])
+        steps = np.diff(tv)
+        if not (np.all(steps > 0) or np.all(steps < 0)):
+            continue  # the run's points do not follow the curve in order: keep them as they are
         # fine parameter grid along the run for arc length and turning
         sub = 16
         tf = np.concatenate([np.linspace(tv[k], tv[k + 1], sub, endpoint=False)
@@ -335,7 +338,15 @@ def resampled_loop(xy: np.ndarray, edge_curve: np.ndarray, curves: Sequence[Curv
             pts, c = pieces[i]
             new_xy.append(pts)
             new_ec.append(np.full(len(pts), c))
-    return np.vstack(new_xy), np.concatenate(new_ec).astype(np.int64)
+    out, out_ec = np.vstack(new_xy), np.concatenate(new_ec).astype(np.int64)
+    # a point repeated (curve points that round to the same numbers at a sharp tip) would
+    # give the mesher a zero-length segment: drop it, its edge goes on from the first copy
+    again = np.all(out == np.roll(out, 1, axis=0), axis=1)
+    if np.any(again) and np.sum(~again) >= 3:
+        keep = np.flatnonzero(~again)
+        out_ec = out_ec[(np.r_[keep[1:], keep[0] + len(out)] - 1) % len(out)]
+        out = out[keep]
+    return out, out_ec
 
 
 def _unit_tangents(cv: Curve, xy: np.ndarray, toward: np.ndarray) -> np.ndarray:

@@ -90,7 +90,7 @@ from ..errors import InputError
 from ..geometry.curves import Circle, Curve, Ellipse
 from ..geometry.edges import _intersection
 from ..geometry.spline import SplineCurve, monotone_pieces
-from ..profile import LENGTH_UNITS, Profile
+from ..profile import COORDINATE_LIMIT, LENGTH_UNITS, SMALLEST_SPAN, Profile
 from ..units import DrawingLength, parse_drawing_length
 from . import register
 from ._names import option_hint
@@ -257,8 +257,10 @@ def _bulge_points(p0, p1, bulge: float, chord: float):
         return np.vstack([p0, p1]), None
     theta = 4.0 * math.atan(bulge)
     left = np.array([-v[1], v[0]]) / c
-    center = 0.5 * (p0 + p1) + left * (0.5 * c / math.tan(0.5 * theta))
-    radius = float(np.hypot(*(p0 - center)))
+    # sagitta b c / 2, radius (c / 4)(b + 1 / b), centre (c / 4)(1 / b - b) left of the chord's
+    # middle: exact for any bulge (0.5 c / tan(theta / 2) loses every digit as theta -> 2 pi)
+    center = 0.5 * (p0 + p1) + left * (0.25 * c * (1.0 / bulge - bulge))
+    radius = 0.25 * c * abs(bulge + 1.0 / bulge)
     a0 = math.atan2(p0[1] - center[1], p0[0] - center[0])
     pts = _arc_points(center, radius, a0, theta, chord)
     pts[0], pts[-1] = p0, p1
@@ -266,13 +268,19 @@ def _bulge_points(p0, p1, bulge: float, chord: float):
 
 
 def _bulged_polyline(entity, points: np.ndarray, bulges: np.ndarray, closed: bool, chord: float,
-                     z: float) -> _Path:
+                     z: float, where: str = "") -> _Path:
     """Flatten a polyline given by OCS vertices and per-vertex bulges, mapped to world XY.
 
     Every bulged segment gets its own :class:`Circle`.
     """
     n = len(points)
     nseg = n if closed else n - 1
+    bad = np.flatnonzero(~np.isfinite(bulges[:nseg]))
+    if len(bad):
+        raise InputError(
+            f"{entity.dxftype()} #{entity.dxf.handle} has a bulge of {bulges[bad[0]]} at vertex "
+            f"{bad[0] + 1}", where=where,
+            fix="redraw the arc in the CAD program (a bulge is tan(angle / 4), a finite number)")
     parts, tags, circles = [points[:1]], [], []
     for i in range(nseg):
         pts, circle = _bulge_points(points[i], points[(i + 1) % n], bulges[i], chord)
@@ -312,6 +320,23 @@ def _to_wcs(entity, xy: np.ndarray, z: float = 0.0) -> np.ndarray:
     return np.array([(p.x, p.y) for p in pts], dtype=float)
 
 
+def _check_range(entity, parts: list[_Path], where: str) -> None:
+    """Refuse an entity placed at numbers the solver cannot carry (NaN, 1e300 ...)."""
+    for part in parts:
+        xy = part.xy
+        finite = bool(np.all(np.isfinite(xy)))
+        far = float(np.max(np.abs(xy))) if finite and len(xy) else 0.0
+        if finite and far <= COORDINATE_LIMIT:
+            continue
+        what = (f"a coordinate of {far:.3g}, beyond the {COORDINATE_LIMIT:.0e} this tool takes"
+                if finite else "coordinates that are not finite numbers")
+        placed = " (it is placed by a block reference: check the INSERT's scale factors)" \
+            if "." in str(entity.dxf.handle) else ""
+        raise InputError(f"{entity.dxftype()} #{entity.dxf.handle} on layer {entity.dxf.layer} "
+                         f"reaches {what}{placed}", where=where,
+                         fix="check the drawing's numbers and its unit")
+
+
 def _flat_xy(entity, points: Iterable, where: str) -> np.ndarray:
     """XY of world points, refusing entities that leave the XY plane."""
     xyz = np.array([(p[0], p[1], p[2]) for p in points], dtype=float).reshape(-1, 3)
@@ -325,7 +350,7 @@ def _flat_xy(entity, points: Iterable, where: str) -> np.ndarray:
     return xyz[:, :2].copy()
 
 
-def _ellipse(entity, chord: float) -> _Path | None:
+def _ellipse(entity, chord: float, where: str = "") -> _Path | None:
     """An ELLIPSE (full or partial) as an :class:`Ellipse` and points on it.
 
     DXF gives the centre and the major axis vector in world coordinates, the
@@ -334,6 +359,12 @@ def _ellipse(entity, chord: float) -> _Path | None:
     a mirrored ellipse), and the arc from ``start_param`` to ``end_param`` in
     the eccentric angle, counter-clockwise about the extrusion.
     """
+    numbers = [*entity.dxf.center, *entity.dxf.major_axis, entity.dxf.ratio,
+               entity.dxf.start_param, entity.dxf.end_param]
+    if not all(math.isfinite(float(v)) for v in numbers):
+        raise InputError(f"ELLIPSE #{entity.dxf.handle} has a centre, axis, ratio or end "
+                         "parameter that is not a finite number", where=where,
+                         fix="redraw it in the CAD program")
     tool = entity.construction_tool()
     c, major, minor = tool.center, tool.major_axis, tool.minor_axis
     if not (math.hypot(major[0], major[1]) > 0 and math.hypot(minor[0], minor[1]) > 0):
@@ -354,6 +385,44 @@ def _ellipse(entity, chord: float) -> _Path | None:
     return _Path(xy, np.zeros(len(xy) - 1, dtype=np.int64), (curve,))
 
 
+def _spline_tool(entity, where: str):
+    """The SPLINE's B-spline (ezdxf's construction tool), or an error naming what is wrong.
+
+    ezdxf evaluates splines up to degree ``_MAX_SPLINE_DEGREE``; control points,
+    weights and knots must be finite, the weights positive, the knots in order.
+    """
+    name = f"SPLINE #{entity.dxf.handle}"
+    fix = "redraw it in the CAD program, or save it as a polyline or as a spline of degree 2 or 3"
+    degree = int(entity.dxf.get("degree", 3))
+    if not 1 <= degree <= _MAX_SPLINE_DEGREE:
+        raise InputError(f"{name} has degree {degree}; splines of degree 1 to "
+                         f"{_MAX_SPLINE_DEGREE} are read", where=where, fix=fix)
+    numbers = [np.asarray(list(entity.control_points), dtype=float).ravel(),
+               np.asarray(list(entity.fit_points), dtype=float).ravel(),
+               np.asarray(list(entity.weights), dtype=float),
+               np.asarray(list(entity.knots), dtype=float)]
+    if not all(np.all(np.isfinite(x)) for x in numbers):
+        raise InputError(f"{name} has a control point, fit point, weight or knot that is not "
+                         "a finite number", where=where, fix=fix)
+    if len(numbers[2]) and np.any(numbers[2] <= 0):
+        raise InputError(f"{name} has a weight of {numbers[2][numbers[2] <= 0][0]:g}; weights "
+                         "must be positive", where=where, fix=fix)
+    count = len(numbers[0]) // 3
+    if count and count <= degree:
+        raise InputError(f"{name} has {count} control points; a spline of degree {degree} "
+                         f"needs at least {degree + 1}", where=where, fix=fix)
+    if len(numbers[3]) and np.any(np.diff(numbers[3]) < 0):
+        raise InputError(f"{name} has knots out of order", where=where, fix=fix)
+    try:
+        return entity.construction_tool()
+    except (ValueError, ArithmeticError, IndexError, TypeError) as exc:
+        raise InputError(f"{name} cannot be evaluated ({exc})", where=where, fix=fix) from None
+
+
+#: Highest SPLINE degree read (ezdxf's compiled evaluator stops at order 11).
+_MAX_SPLINE_DEGREE = 10
+
+
 def _spline(entity, chord: float, where: str) -> _Path:
     """A SPLINE as pieces of one :class:`SplineCurve` that turn one way only, and points on them.
 
@@ -362,7 +431,7 @@ def _spline(entity, chord: float, where: str) -> _Path:
     closes on itself is cut in two at least, so that no loop is one
     open-parameter curve from end to end.
     """
-    tool = entity.construction_tool()
+    tool = _spline_tool(entity, where)
     ctrl = _flat_xy(entity, tool.control_points, where)
     whole = SplineCurve.from_bspline(tool)
     extent = float(np.max(np.ptp(ctrl, axis=0))) if len(ctrl) else 0.0
@@ -396,6 +465,10 @@ def _flatten(entity, chord: float, where: str) -> list[_Path] | None:
     if kind in ("ARC", "CIRCLE"):
         _plane_check(entity, where)
         c, r = entity.dxf.center, float(entity.dxf.radius)
+        if not (math.isfinite(r) and all(math.isfinite(v) for v in c)):
+            raise InputError(f"{kind} #{entity.dxf.handle} has a centre "
+                             f"{tuple(float(v) for v in c)} and radius {r}: not finite numbers",
+                             where=where, fix="redraw it in the CAD program")
         if not r > 0:
             return []
         if kind == "CIRCLE":
@@ -417,7 +490,7 @@ def _flatten(entity, chord: float, where: str) -> list[_Path] | None:
         if len(pts) < 2:
             return []
         return [_bulged_polyline(entity, pts[:, :2], pts[:, 2], bool(entity.closed), chord,
-                                 float(entity.dxf.elevation))]
+                                 float(entity.dxf.elevation), where)]
     if kind == "POLYLINE":
         if entity.is_2d_polyline:
             _plane_check(entity, where)
@@ -426,7 +499,7 @@ def _flatten(entity, chord: float, where: str) -> list[_Path] | None:
                 return []
             pts = np.array([(v.dxf.location[0], v.dxf.location[1], v.dxf.bulge) for v in verts])
             return [_bulged_polyline(entity, pts[:, :2], pts[:, 2], bool(entity.is_closed),
-                                     chord, float(verts[0].dxf.location[2]))]
+                                     chord, float(verts[0].dxf.location[2]), where)]
         if entity.is_3d_polyline:
             xy = _flat_xy(entity, [v.dxf.location for v in entity.vertices], where)
             if len(xy) < 2:
@@ -437,7 +510,7 @@ def _flatten(entity, chord: float, where: str) -> list[_Path] | None:
         return None  # meshes and polyface meshes: not an outline
     if kind == "ELLIPSE":
         _plane_check(entity, where)
-        path = _ellipse(entity, chord)
+        path = _ellipse(entity, chord, where)
         return [] if path is None else [path]
     if kind == "SPLINE":
         path = _spline(entity, chord, where)
@@ -533,6 +606,22 @@ def _expanded(entities, depth: int = 0):
             if ve.dxf.layer == "0":
                 ve.dxf.layer = e.dxf.layer
             yield from _expanded([ve], depth + 1)
+
+
+def _check_insert(insert, where: str) -> None:
+    """Refuse a block reference whose placement cannot be computed (zero, NaN, 1e300 scales)."""
+    scale = [float(insert.dxf.get(k, 1.0)) for k in ("xscale", "yscale", "zscale")]
+    numbers = [*scale, float(insert.dxf.get("rotation", 0.0)), *insert.dxf.get("insert", (0, 0, 0))]
+    if all(math.isfinite(v) for v in numbers) and all(
+            SMALLEST_SPAN <= abs(v) <= COORDINATE_LIMIT for v in scale):
+        return
+    shown = ", ".join(f"{v:g}" for v in scale)
+    raise InputError(
+        f"INSERT #{insert.dxf.handle} of block {str(insert.dxf.name)!r} has scale factors "
+        f"({shown}), rotation {float(insert.dxf.get('rotation', 0.0)):g} and insertion point "
+        f"{tuple(float(v) for v in insert.dxf.get('insert', (0, 0, 0)))}: the scale factors must "
+        f"be finite and between {SMALLEST_SPAN:.0e} and {COORDINATE_LIMIT:.0e} in size, the "
+        "rest finite", where=where, fix="set the block reference's scale in the CAD program")
 
 
 #: Nesting depth of block references expanded (deeper ones are skipped as INSERTs).
@@ -892,7 +981,9 @@ def read_dxf(
     # first pass, coarse, for the drawing size
     rough, kept = [], []
     for e in entities:
-        parts = _flatten(e, math.inf, where)
+        with np.errstate(all="ignore"):  # huge scale factors: judged below, not warned about
+            parts = _flatten(e, math.inf, where)
+        _check_range(e, parts or [], where)
         if parts is None:
             notes.append(f"{where}: ignored {e.dxftype()} #{e.dxf.handle} (a mesh, not an "
                          "outline)")
@@ -911,6 +1002,10 @@ def read_dxf(
     size = float(np.max(np.ptp(allpts, axis=0)))
     if not size > 0 or not np.isfinite(size):
         raise InputError("the geometry has no extent (all points coincide)", where=where)
+    if size < SMALLEST_SPAN:
+        raise InputError(f"the geometry is {size:.3g} across, under the {SMALLEST_SPAN:.0e} this "
+                         "tool takes (J shrinks with the fourth power of the size)", where=where,
+                         fix="check the drawing's numbers, unit and block scale factors")
     chord = chord_tolerance or DEFAULT_CHORD_TOLERANCE * size
     jtol = jtol_given or DEFAULT_JOIN_TOLERANCE * size
 

@@ -80,6 +80,9 @@ def read_pointlist(path: Path, units: str | None = None) -> Profile:
     except UnicodeDecodeError:
         raise InputError("is not a text file", where=str(path),
                          fix="save the point list as plain text") from None
+    except OSError as exc:  # permission denied, a device that fails ...
+        raise InputError(f"cannot read the file ({exc.strerror or type(exc).__name__})",
+                         where=str(path), fix="check the file's permissions") from None
     loops, labels = parse_pointlist(text, str(path))
     if not loops:
         raise InputError("no points found (the file is empty or all comments)", where=str(path),

@@ -37,7 +37,7 @@ from pathlib import Path
 
 from shapely.geometry import Polygon
 
-from ..errors import InputError
+from ..errors import GeometryError, InputError
 from ..profile import LENGTH_UNITS, Profile
 from ..shapes.compose import combined, placed
 from ..shapes.registry import KINDS, build, suggest
@@ -113,6 +113,13 @@ def _load_toml(path: Path) -> dict:
                          fix="check quotes, brackets and '=' on that line") from None
     except UnicodeDecodeError:
         raise InputError("is not a text file", where=str(path)) from None
+    except RecursionError:
+        raise InputError("arrays or tables are nested too deeply to read", where=str(path),
+                         fix="a shape file needs at most three levels of brackets "
+                             "(hole point lists)") from None
+    except OSError as exc:  # permission denied, a folder, a device that fails ...
+        raise InputError(f"cannot read the file ({exc.strerror or type(exc).__name__})",
+                         where=str(path), fix="check the file's permissions") from None
 
 
 def _unknown(key: str, allowed, where: str) -> InputError:
@@ -175,6 +182,9 @@ def _part(tab, where: str, base: Path, units: str, chord: float | None,
         raise InputError("kind is missing", where=where,
                          fix="add e.g. kind = \"round\" ('soapfilm shapes' lists the kinds)")
     kind = tab["kind"]
+    if not isinstance(kind, str):
+        raise InputError(f"kind must be the name of a kind in quotes, got {kind!r}", where=where,
+                         fix="write e.g. kind = \"round\" ('soapfilm shapes' lists the kinds)")
     common = {"kind", "rotate", "position"} | ({"action"} if composite else set())
     dims = {k: v for k, v in tab.items() if k not in common}
     if kind in SPECIAL_KINDS:
@@ -221,10 +231,15 @@ def _part(tab, where: str, base: Path, units: str, chord: float | None,
         raise InputError(f"rotate must be an angle in degrees, got {rot!r}", where=where)
     pos = tab.get("position", [0.0, 0.0])
     if not (isinstance(pos, list) and len(pos) == 2 and all(
-            isinstance(c, (int, float)) and not isinstance(c, bool) for c in pos)):
-        raise InputError(f"position must be [x, y], got {pos!r}", where=where,
-                         fix="write e.g. position = [0, 12.5]")
-    return placed(prof, float(pos[0]), float(pos[1]), float(rot))
+            isinstance(c, (int, float)) and not isinstance(c, bool) and math.isfinite(c)
+            for c in pos)):
+        raise InputError(f"position must be [x, y], two finite numbers, got {pos!r}",
+                         where=where, fix="write e.g. position = [0, 12.5]")
+    try:
+        return placed(prof, float(pos[0]), float(pos[1]), float(rot))
+    except GeometryError as exc:
+        raise InputError(f"placed at {pos} turned by {rot}: {exc.what}", where=where,
+                         fix=exc.fix) from None
 
 
 def _read_file_part(target: Path, dims: dict, units: str, where: str) -> Profile:
@@ -303,6 +318,10 @@ def shapefile_from_document(doc: dict, path, units: str | None = None) -> ShapeF
         raise InputError(f"title must be text, got {title!r}", where=where,
                          fix='write title = "..."')
     file_units = doc.get("units")
+    if file_units is not None and not isinstance(file_units, str):
+        raise InputError(f"units must be a unit name in quotes, got {file_units!r}",
+                         where=f"{where} units",
+                         fix=f'write e.g. units = "mm" (one of {", ".join(LENGTH_UNITS)})')
     if file_units is not None and file_units not in LENGTH_UNITS:
         raise InputError(f"unknown length unit {file_units!r}", where=f"{where} units",
                          fix=suggest(file_units, LENGTH_UNITS))

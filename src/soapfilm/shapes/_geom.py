@@ -48,6 +48,7 @@ from ..profile import Profile
 
 __all__ = [
     "DEFAULT_CHORD_REL",
+    "COARSEST_CHORD_REL",
     "chord_for",
     "arc_segments",
     "arc_points",
@@ -63,6 +64,10 @@ __all__ = [
 #: default chord tolerance as a fraction of the shape's largest dimension
 DEFAULT_CHORD_REL = 1e-5
 
+#: largest chord tolerance taken, as a fraction of the shape's largest dimension: the
+#: sagitta of a 10-degree step on a circle of that diameter, 0.5 (1 - cos 5 deg) = 1.9e-3
+COARSEST_CHORD_REL = 0.5 * (1.0 - math.cos(math.radians(5.0)))
+
 #: mitre limit for the sharp-corner offsets used around fillets
 _MITRE = 1e3
 
@@ -74,7 +79,10 @@ def chord_for(size: float, chord: float | None) -> float:
     if not (math.isfinite(chord) and chord > 0):
         raise InputError(f"chord tolerance must be a positive length, got {chord}",
                          where="chord", fix="give e.g. 0.001 (in the section's unit)")
-    return float(chord)
+    # coarser than 10-degree steps on a circle the size of the shape resolves nothing more:
+    # the polyline (tagged with its curves, which go to the solver) would no longer tell
+    # a flat or a key side from the chord of an arc (issue 11: an octagon for a round bar)
+    return min(float(chord), COARSEST_CHORD_REL * float(size))
 
 
 def arc_segments(radius: float, sweep: float, chord: float) -> int:

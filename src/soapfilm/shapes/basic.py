@@ -17,7 +17,7 @@ from ..errors import InputError
 from ..geometry.curves import Circle, Ellipse
 from ..profile import Profile
 from ._check import count_at_least, fmt, nonnegative, positive
-from ._geom import chord_for, circle, round_convex, rounded_box, to_profile
+from ._geom import arc_points, chord_for, circle, rounded_box, to_profile
 
 __all__ = ["round_bar", "tube", "ellipse", "rectangle", "box_tube", "regular_polygon"]
 
@@ -136,20 +136,31 @@ def regular_polygon(sides: int, across_flats: float, corner_radius: float = 0.0,
     s = positive("across_flats", across_flats)
     r = nonnegative("corner_radius", corner_radius)
     apothem = s / 2
-    if r >= apothem:
-        raise InputError(f"corner_radius {fmt(r)} is not less than half the size across flats "
-                         f"({fmt(apothem)}): nothing of the polygon is left",
-                         where="corner_radius", fix=f"use less than {fmt(apothem)}, or kind "
-                         "'round' for a circle")
+    if r > apothem:
+        raise InputError(f"corner_radius {fmt(r)} is more than half the size across flats "
+                         f"({fmt(apothem)})", where="corner_radius",
+                         fix=f"use at most {fmt(apothem)} (that much rounds the polygon into a "
+                             "circle)")
     rc = apothem / math.cos(math.pi / n)
     # flat normal at +y: vertices at 90 deg +- 180/n
     a = math.pi / 2 + math.pi / n + np.arange(n) * (2 * math.pi / n)
-    geom = Polygon(np.column_stack([rc * np.cos(a), rc * np.sin(a)]))
     c = chord_for(2 * rc, chord)
-    geom = round_convex(geom, r, c)
-    # the corner arcs' centres: the corners of the polygon shrunk by r
-    dist = (apothem - r) / math.cos(math.pi / n)
-    arcs = [Circle(dist * math.cos(ak), dist * math.sin(ak), r) for ak in a] if r > 0 else []
     label = {3: "triangle", 4: "square", 6: "hex", 8: "octagon"}.get(n, f"{n}-gon")
-    return to_profile(geom, f"{label} {fmt(s)} AF" + (f" r{fmt(r)}" if r else ""), units,
-                      curves=arcs, sagitta=c)
+    name = f"{label} {fmt(s)} AF" + (f" r{fmt(r)}" if r else "")
+    if r <= 1e-9 * s:  # sharp corners
+        geom = Polygon(np.column_stack([rc * np.cos(a), rc * np.sin(a)]))
+        return to_profile(geom, name, units, sagitta=c)
+    # built point by point: each corner an arc about the corner of the polygon shrunk by r,
+    # from the normal of the flat before it to the normal of the flat after it; the flats
+    # between are what is left of the sides (none at r = s/2: a circle)
+    dist = (apothem - r) / math.cos(math.pi / n)
+    centres = np.column_stack([dist * np.cos(a), dist * np.sin(a)])
+    xy = np.concatenate([arc_points(cx, cy, r, ak - math.pi / n, ak + math.pi / n, c)
+                         for (cx, cy), ak in zip(centres, a, strict=True)])
+    step = np.hypot(*(xy - np.roll(xy, 1, axis=0)).T)
+    xy = xy[step > 1e-12 * s]  # the ends of neighbouring arcs where no flat is left
+    if dist <= 1e-12 * s:
+        arcs = [Circle(0.0, 0.0, r)]
+    else:
+        arcs = [Circle(float(cx), float(cy), r) for cx, cy in centres]
+    return to_profile(Polygon(xy), name, units, curves=arcs, sagitta=c)
