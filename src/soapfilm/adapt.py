@@ -43,6 +43,7 @@ from .corners import DEFAULT_CORNER_TOL_DEG, reentrant_corners, traced_runs
 from .errors import InputError
 from .mesh import Mesh, default_mesh_size, mesh_profile
 from .profile import Profile
+from .resources import elements_within, format_bytes, memory_budget
 from .result import TorsionResult
 from .solve import (
     boundary_peak,
@@ -101,6 +102,7 @@ def refine_until(
     max_steps: int = 60,
     corner_tol_deg: float = DEFAULT_CORNER_TOL_DEG,
     progress: Callable[[dict], None] | None = None,
+    memory=None,
 ) -> TorsionResult:
     """Refine adaptively until J and the peak shear meet the tolerances.
 
@@ -121,6 +123,11 @@ def refine_until(
         Share of the total indicator the marked elements must carry.
     progress : callable, optional
         Called with each step's history entry.
+    memory : str or number, optional
+        Memory budget (``"4 GB"`` or bytes; default ``$SOAPFILM_MEMORY``, else
+        4 GB): the starting mesh is refused above it, and refinement stops,
+        with a warning, at the elements it affords
+        (:func:`soapfilm.resources.elements_within`).
 
     Returns
     -------
@@ -142,7 +149,8 @@ def refine_until(
     zone = corner_zone_radius(profile)
     h_floor = 1e-6 * profile.size  # no element is asked to be smaller than this
     size = mesh_size if mesh_size is not None else _COARSE_START * default_mesh_size(profile)
-    mesh: Mesh = mesh_profile(profile, size)
+    mesh: Mesh = mesh_profile(profile, size, memory=memory)
+    affordable = elements_within(memory)  # the next mesh must stay within the budget
     history: list[dict] = []
     peaks: list[float] = []
     converged = False
@@ -179,16 +187,25 @@ def refine_until(
         if gap <= tol and perr <= peak_tol:
             converged = True
             break
-        if mesh.nelements >= max_elements:
+        limit = _next_limit(mesh, fields, peak, gap > tol, perr > peak_tol, theta, h_floor,
+                            peak_tol)
+        coming = _next_count(mesh, limit)
+        if mesh.nelements >= max_elements or coming > affordable:
+            if mesh.nelements < max_elements:
+                why = (f"the memory budget {format_bytes(memory_budget(memory))} affords about "
+                       f"{affordable} elements and the next step would take about "
+                       f"{coming:.2g}; raise --memory or loosen --tol")
+            else:
+                why = f"--max-elements {max_elements}; raise --max-elements or loosen --tol"
             warnings.append(
-                f"tolerance not met: stopped at {mesh.nelements} elements (--max-elements "
-                f"{max_elements}) with J bracket {gap:.2e} (asked {tol:g}) and peak-shear error "
-                f"{perr:.2e} (asked {peak_tol:g}); raise --max-elements or loosen --tol"
+                f"tolerance not met: stopped at {mesh.nelements} elements with J bracket "
+                f"{gap:.2e} (asked {tol:g}) and peak-shear error {perr:.2e} (asked "
+                f"{peak_tol:g}): {why}"
             )
             break
         if step + 1 < max_steps:  # the result always pairs a mesh with its own fields
-            mesh = _next_mesh(mesh, fields, peak, gap > tol, perr > peak_tol, theta, h_floor,
-                              peak_tol)
+            mesh = mesh.refined(limit)
+            log.debug("refined to %d elements (estimated %.0f)", mesh.nelements, coming)
     else:
         warnings.append(f"tolerance not met after {max_steps} refinement steps")
     return result_from_mesh(
@@ -205,7 +222,21 @@ def refine_until(
     )
 
 
-def _next_mesh(mesh, fields, peak, refine_j, refine_peak, theta, h_floor, peak_tol) -> Mesh:
+def _next_count(mesh: Mesh, limit: np.ndarray) -> float:
+    """Elements after refining to the per-element area ``limit`` (estimate).
+
+    Each element becomes about ``area / limit`` elements, and the 30-degree
+    quality condition adds about a tenth round the refined ones (measured on
+    the adaptive runs of the keyed shaft and the closed-form sections).
+    """
+    area = np.abs(mesh.element_areas())
+    split = np.where(np.isfinite(limit), area / np.maximum(limit, 1e-300), 1.0)
+    return float(np.sum(np.maximum(split, 1.0)) + 0.1 * np.sum(split[split > 1.0]))
+
+
+def _next_limit(mesh, fields, peak, refine_j, refine_peak, theta, h_floor, peak_tol
+                ) -> np.ndarray:
+    """Per-element area limits of the next refinement (``inf``: leave alone)."""
     area = np.abs(mesh.element_areas())
     limit = np.full(mesh.nelements, np.inf)
     if refine_j or refine_peak:
@@ -233,4 +264,4 @@ def _next_mesh(mesh, fields, peak, refine_j, refine_peak, theta, h_floor, peak_t
     limit = np.where(np.isfinite(limit), np.maximum(limit, floor), limit)
     if not np.any(limit < area):  # nothing left to refine above the floor: refine uniformly
         limit = np.maximum(area / 2.0, floor)
-    return mesh.refined(limit)
+    return limit

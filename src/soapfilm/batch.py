@@ -63,7 +63,7 @@ log = logging.getLogger(__name__)
 
 #: options a job may carry: keywords of :func:`soapfilm.analyse`, and ``units``
 OPTION_KEYS = ("units", "mesh_size", "method", "tol", "peak_tol", "max_elements", "order",
-               "layers", "join_tolerance")
+               "layers", "join_tolerance", "memory")
 
 #: row key -> (power of length, CSV column stem, meaning)
 QUANTITIES: dict[str, tuple[int, str, str]] = {
@@ -374,6 +374,7 @@ def run_batch(
     n = (os.cpu_count() or 1) if workers is None else int(workers)
     if n < 1:
         raise InputError(f"the number of workers must be at least 1, got {n}", where="--jobs")
+    n = min(n, _parallel_within_memory(jobs))
     if executor == "serial" or n == 1 or len(jobs) == 1:
         rows = []
         for done, job in enumerate(jobs, start=1):
@@ -390,6 +391,22 @@ def run_batch(
     for i in lost:
         rows[i] = _in_pool([jobs[i]], 1, None, task, take)[0]
     return rows
+
+
+def _parallel_within_memory(jobs: list[Job]) -> int:
+    """Most workers whose memory budgets (one per section analysed) the machine holds.
+
+    The budget guards one analysis (:mod:`soapfilm.resources`); running more
+    of them at once than fit in memory would walk around it.  Fewer workers
+    change only the time: every row is the same (README, "Repeatable results").
+    """
+    from .resources import memory_budget, physical_memory
+
+    ram = physical_memory()
+    if ram is None:
+        return len(jobs)
+    budget = max(memory_budget(j.options.get("memory")) for j in jobs)
+    return max(1, int(ram // budget))
 
 
 #: start of the error of a job whose worker process died
@@ -506,6 +523,10 @@ def parse_values(text: str, where: str = "--vary") -> list:
         if not isinstance(count, int) or count < 1:
             raise InputError(f"count {parts[2].strip()!r} must be a whole number >= 1", where=where,
                              fix="give e.g. 6:20:8 (8 values from 6 to 20)")
+        from .resources import MAX_SWEEP_ROWS, check_count
+
+        check_count("values", count, MAX_SWEEP_ROWS, where,
+                    "a sweep has at most that many rows: give fewer values")
         if count == 1:
             values = [start]
         else:
@@ -671,6 +692,10 @@ def plan_sweep(shape_file, vary: Mapping[str, Sequence] | Sequence[tuple[str, Se
         input_units[key] = _check_key(doc, key, values, where, file_units)
         keys.append(key)
         lists.append(values)
+    from .resources import MAX_SWEEP_ROWS, check_count
+
+    check_count("combinations to analyse", math.prod(len(v) for v in lists), MAX_SWEEP_ROWS,
+                str(path), "give fewer values, or split the sweep into several runs")
     return SweepPlan(path, doc, tuple(keys), input_units, tuple(itertools.product(*lists)))
 
 

@@ -7,7 +7,8 @@ from here (``soapfilm.adapt``, ``soapfilm.solve``, ``soapfilm.profile``).
 
 from __future__ import annotations
 
-__all__ = ["CAUTION", "LENGTH_UNITS", "DEFAULT_TOL", "DEFAULT_MAX_ELEMENTS", "DEFAULT_ORDER", "VERSION"]
+__all__ = ["CAUTION", "LENGTH_UNITS", "DEFAULT_TOL", "DEFAULT_MAX_ELEMENTS", "DEFAULT_ORDER",
+           "DEFAULT_MEMORY", "MEMORY_ENV", "VERSION"]
 
 #: Length units a section may be given in, with their size in metres.
 LENGTH_UNITS = {"mm": 1e-3, "cm": 1e-2, "m": 1.0, "in": 0.0254, "ft": 0.3048}
@@ -16,6 +17,10 @@ LENGTH_UNITS = {"mm": 1e-3, "cm": 1e-2, "m": 1.0, "in": 0.0254, "ft": 0.3048}
 DEFAULT_TOL = 1e-3
 #: the adaptive loop stops refining at this many elements
 DEFAULT_MAX_ELEMENTS = 1_000_000
+#: memory budget of one section's analysis, bytes (4 GB: fits a laptop; soapfilm.resources)
+DEFAULT_MEMORY = 4_000_000_000
+#: environment variable that sets another default budget ("8 GB")
+MEMORY_ENV = "SOAPFILM_MEMORY"
 #: default element order (2: quadratic, isoparametric on curved edges)
 DEFAULT_ORDER = 2
 

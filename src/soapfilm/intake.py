@@ -17,6 +17,10 @@ that the same options mean the same thing everywhere:
     own unit).  Given without ``tol``: one solve on that mesh.
 ``tol``, ``peak_tol``, ``max_elements``, ``order``, ``method``
     Accuracy of the adaptive loop, element order and linear solver.
+``memory``
+    Memory budget of one section's analysis (bytes, or text such as
+    ``"4 GB"``; None: ``$SOAPFILM_MEMORY``, else 4 GB): meshes are estimated
+    before they are made and refused above it (:mod:`soapfilm.resources`).
 
 A shape file's own ``[mesh] size`` and ``[solve] method`` apply when the
 options leave them open.
@@ -61,6 +65,7 @@ class SectionOptions:
     max_elements: int = DEFAULT_MAX_ELEMENTS
     order: int = DEFAULT_ORDER
     method: str | None = None
+    memory: int | str | None = None
 
     def __post_init__(self):
         if self.units is not None and self.units not in LENGTH_UNITS:
@@ -83,6 +88,11 @@ class SectionOptions:
                              where="--max-elements")
         if self.order not in (1, 2):
             raise InputError(f"must be 1 or 2, got {self.order}", where="--order")
+        if self.memory is not None:
+            from .resources import memory_budget, parse_memory
+
+            object.__setattr__(self, "memory", parse_memory(self.memory))
+            memory_budget(self.memory)  # within the machine's memory
         if self.method is not None and self.method not in _METHODS:
             raise InputError(f"unknown linear solver {self.method!r}", where="method",
                              fix=f"use one of {', '.join(_METHODS)}")
@@ -158,7 +168,7 @@ def analyse_options(profile, settings: dict, opts: SectionOptions) -> dict:
     mesh_size = (opts.mesh_size.in_unit(profile.units) if opts.mesh_size is not None
                  else settings.get("mesh_size"))
     kw: dict = {"mesh_size": mesh_size, "order": opts.order,
-                "method": opts.method or settings.get("method", "auto")}
+                "method": opts.method or settings.get("method", "auto"), "memory": opts.memory}
     if opts.tol is None and mesh_size is not None:
         return kw  # one solve on the mesh of that size
     kw.update(tol=DEFAULT_TOL if opts.tol is None else opts.tol, peak_tol=opts.peak_tol,
@@ -180,10 +190,21 @@ def solve_input(path, opts: SectionOptions | None = None,
                 raise InputError(f"{name} does not apply to a mesh file, which is solved as "
                                  "given", where=str(path), fix=f"drop {name}")
         profile, mesh = read_mesh_file(path, opts.units)
+        from .resources import check_elements
+
+        check_elements(mesh.nelements, opts.memory, where=str(path),
+                       fix="solve a coarser mesh, or the section itself")
         return result_from_mesh(profile, mesh, order=opts.order)
     profile, settings = read_input(path, opts)
     kw = analyse_options(profile, settings, opts)
     if progress is not None and "tol" in kw:
         kw["progress"] = progress
-    return analyse(profile, **kw)
+    from .readers._names import options_named
+
+    hints = {}
+    if opts.mesh_size is None and settings.get("mesh_size") is not None:
+        # a refusal of the file's own mesh size names the key to change
+        hints["mesh_size"] = f"size = {{}} in [mesh] of {Path(path).name}"
+    with options_named(hints):
+        return analyse(profile, **kw)
 

@@ -187,7 +187,7 @@ def default_mesh_size(profile: Profile) -> float:
     return float(min(h_area, thickness / 4.0))
 
 
-def mesh_profile(profile: Profile, size: float | None = None) -> Mesh:
+def mesh_profile(profile: Profile, size: float | None = None, *, memory=None) -> Mesh:
     """Quality-mesh a profile.
 
     Parameters
@@ -197,23 +197,26 @@ def mesh_profile(profile: Profile, size: float | None = None) -> Mesh:
         Target element edge length in the profile's unit; the area limit given
         to Triangle is that of an equilateral triangle of this side.  Default
         :func:`default_mesh_size`.
+    memory : str or number, optional
+        Memory budget of the analysis (``"4 GB"``, or bytes; default
+        ``$SOAPFILM_MEMORY``, else 4 GB).  The mesh is estimated from the
+        section and the size before it is made (:mod:`soapfilm.resources`)
+        and refused with one line when its analysis would need more.
     """
+    from .resources import check_mesh, precheck_mesh
+
     if size is None:
         size = default_mesh_size(profile)
     if not np.isfinite(size) or size <= 0:
         raise InputError(f"mesh size must be a positive number, got {size}", where="--mesh-size")
+    precheck_mesh(profile, size, memory)  # before resampling: area and curve lengths only
+    loops = [resampled_loop(loop, tags, profile.curves, size)
+             for loop, tags in zip(profile.loops, profile.edge_curves, strict=True)]
+    check_mesh(profile, size, memory, loops)
     max_area = np.sqrt(3.0) / 4.0 * size * size
-    nest = profile.polygon.area / max_area
-    if nest > 2e7:
-        raise InputError(
-            f"mesh size {size:g} {profile.units} would give about {nest:.2g} elements",
-            where="--mesh-size",
-            fix="choose a larger size",
-        )
     verts, segs, marks, curv, hole_pts = [], [], [], [], []
     start = 0
-    for k, (loop, tags) in enumerate(zip(profile.loops, profile.edge_curves, strict=True)):
-        loop, tags = resampled_loop(loop, tags, profile.curves, size)
+    for k, (loop, tags) in enumerate(loops):
         n = len(loop)
         verts.append(loop)
         idx = np.arange(n) + start

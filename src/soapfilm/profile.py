@@ -51,16 +51,20 @@ def _clean_loop(xy, label: str, tol: float, tags=None) -> tuple[np.ndarray, np.n
     tags = np.full(len(xy), -1, dtype=np.int64) if tags is None else np.asarray(tags, np.int64)
     if len(tags) != len(xy):
         raise GeometryError(f"{label}: {len(tags)} edge tags for {len(xy)} points")
-    keep = [0] if len(xy) else []
-    out_tag = [tags[0]] if len(xy) else []
-    for i in range(1, len(xy)):
-        if np.hypot(*(xy[i] - xy[keep[-1]])) > tol:
-            keep.append(i)
-            out_tag.append(tags[i])
-        else:
-            out_tag[-1] = tags[i]
-    xy = xy[keep]
-    tg = np.asarray(out_tag, dtype=np.int64)
+    step = np.hypot(*np.diff(xy, axis=0).T) if len(xy) > 1 else np.zeros(0)
+    if np.all(step > tol):  # nothing repeated (the usual case): no loop over the points
+        tg = tags.copy()
+    else:
+        keep = [0] if len(xy) else []
+        out_tag = [tags[0]] if len(xy) else []
+        for i in range(1, len(xy)):
+            if np.hypot(*(xy[i] - xy[keep[-1]])) > tol:
+                keep.append(i)
+                out_tag.append(tags[i])
+            else:
+                out_tag[-1] = tags[i]
+        xy = xy[keep]
+        tg = np.asarray(out_tag, dtype=np.int64)
     while len(xy) > 1 and np.hypot(*(xy[-1] - xy[0])) <= tol:
         xy, tg = xy[:-1], tg[:-1]
     if len(xy) < 3:
@@ -69,6 +73,45 @@ def _clean_loop(xy, label: str, tol: float, tags=None) -> tuple[np.ndarray, np.n
             fix="add points or join it to the loop it belongs to",
         )
     return xy, tg
+
+
+def _check_holes(clean: list, rings: list, labels: list, tol: float) -> None:
+    """Holes strictly inside the outer loop, clear of it and of each other.
+
+    ``O(n log n)`` in the loops and points: the tests are vectorised, the
+    pairs of holes that could touch come from a search tree.  The first
+    offending hole (in order) is named: not inside, touching the outside, or
+    touching an earlier hole.
+    """
+    if len(clean) < 2:
+        return
+    outer = Polygon(clean[0])
+    shapely.prepare(outer)
+    holes = np.array([Polygon(xy) for xy in clean[1:]], dtype=object)
+    hole_rings = np.array(rings[1:], dtype=object)
+    bad = np.full(len(holes), 9, dtype=np.int64)  # per hole, the first failed test (9: none)
+    other = np.full(len(holes), -1, dtype=np.int64)
+    outside = ~shapely.contains(outer, holes)
+    bad[outside] = 0
+    touch = shapely.dwithin(rings[0], hole_rings, tol) & ~outside
+    bad[touch] = 1
+    left, right = shapely.STRtree(holes).query(holes, predicate="intersects")
+    earlier = right < left  # (hole left, an earlier hole right) that intersect
+    for k, j in zip(left[earlier], right[earlier], strict=True):
+        if bad[k] > 2 or (bad[k] == 2 and j < other[k]):
+            bad[k], other[k] = 2, j
+    if np.all(bad == 9):
+        return
+    k = int(np.flatnonzero(bad < 9)[0])
+    label = labels[k + 1]
+    if bad[k] == 0:
+        raise GeometryError(f"{label} is not inside the outer loop",
+                            fix="holes must lie wholly inside the first loop, which is the outside")
+    if bad[k] == 1:
+        raise GeometryError(f"{label} touches the outer loop",
+                            fix="leave material between a hole and the outside, or make it a notch")
+    raise GeometryError(f"{label} overlaps or touches {labels[other[k] + 1]}",
+                        fix="merge the two holes into one loop or separate them")
 
 
 def _check_scale(xy: np.ndarray, span: float, label: str) -> None:
@@ -197,9 +240,19 @@ class Profile:
             If a loop is too short, crosses itself, has zero area, or a hole
             is not strictly inside the outer loop or touches another hole.
         """
+        from .resources import MAX_LOOPS, MAX_POINTS, check_count
+
         loops = list(loops)
         if not loops:
             raise GeometryError("no loops given", fix="give at least the outer boundary")
+        check_count("loops (the outside and its holes)", len(loops), MAX_LOOPS,
+                    labels[0] if labels else None,
+                    "a bar section with that many holes is out of this tool's scope; "
+                    "solve a representative part of it")
+        check_count("points over all loops", sum(len(lp) for lp in loops), MAX_POINTS,
+                    labels[0] if labels else None,
+                    "give the outline with fewer points (curves as arcs in a DXF drawing or "
+                    "a shape file)")
         if labels is None:
             labels = ["outer loop"] + [f"hole {k}" for k in range(1, len(loops))]
         labels = list(labels)
@@ -231,25 +284,7 @@ class Profile:
                     f"{label} encloses zero area", fix="check that the points are not all on a line"
                 )
             rings.append(ring)
-        outer_poly = Polygon(clean[0])
-        for k in range(1, len(clean)):
-            hole_poly = Polygon(clean[k])
-            if not outer_poly.contains(hole_poly):
-                raise GeometryError(
-                    f"{labels[k]} is not inside the outer loop",
-                    fix="holes must lie wholly inside the first loop, which is the outside",
-                )
-            if rings[k].distance(rings[0]) <= tol:
-                raise GeometryError(
-                    f"{labels[k]} touches the outer loop",
-                    fix="leave material between a hole and the outside, or make it a notch",
-                )
-            for j in range(1, k):
-                if Polygon(clean[j]).intersects(hole_poly):
-                    raise GeometryError(
-                        f"{labels[k]} overlaps or touches {labels[j]}",
-                        fix="merge the two holes into one loop or separate them",
-                    )
+        _check_holes(clean, rings, labels, tol)
         want = [1.0] + [-1.0] * (len(clean) - 1)  # outer counter-clockwise, holes clockwise
         for k in range(len(clean)):
             if _signed_area(clean[k]) * want[k] < 0:

@@ -176,8 +176,11 @@ def boundary_peak(
     xy = fields.p[:, nodes] + fields.origin[:, None]  # input coordinates (P2: midpoints too)
     bn, corner = boundary_corner_nodes(mesh)
     away = ~np.isin(nodes, bn[corner])  # no finite peak at a corner node
-    for c in corners:
-        away &= np.hypot(xy[0] - c.x, xy[1] - c.y) > zone
+    if corners:  # away from every sharp corner: the nearest one farther than the zone
+        from scipy.spatial import cKDTree
+
+        dist, _ = cKDTree(np.array([(c.x, c.y) for c in corners])).query(xy.T)
+        away &= dist > zone
     near = float(tau_phi[~away].max()) if np.any(~away) else 0.0
     run_of = np.full(len(nodes), -1)
     if traced:
@@ -373,6 +376,7 @@ def analyse(
     *,
     tol: float | None = None,
     order: int = DEFAULT_ORDER,
+    memory=None,
     **adapt_options,
 ) -> TorsionResult:
     """Mesh a profile and compute its torsion properties.
@@ -393,6 +397,17 @@ def analyse(
         further keyword options).
     order : {1, 2}
         Linear or quadratic triangles (default :data:`DEFAULT_ORDER`, quadratic).
+    memory : str or number, optional
+        Memory budget (``"4 GB"``, ``"500 MB"`` or bytes; default
+        ``$SOAPFILM_MEMORY``, else 4 GB).  A mesh whose analysis would need
+        more is refused before it is made, with an :class:`InputError` that
+        gives the estimate; the adaptive loop stops refining within it
+        (:mod:`soapfilm.resources`).
+
+    A section lying farther from the origin than :data:`FAR_RATIO` times its
+    size is solved moved to the origin (far out, coordinates keep too few
+    digits for a fine mesh); the result says so, gives the centroid and the
+    peak where the section lies, and the mesh and pictures at the origin.
 
     Examples
     --------
@@ -403,11 +418,66 @@ def analyse(
     >>> bool(lo <= 0.1405770 <= hi)  # exact series value (Timoshenko & Goodier, sec. 109)
     True
     """
+    shift = far_shift(profile)
+    if shift is not None:
+        return _solved_at_origin(profile, shift, mesh_size=mesh_size, method=method, tol=tol,
+                                 order=order, memory=memory, **adapt_options)
     if tol is not None:
         from .adapt import refine_until
 
         return refine_until(profile, tol=tol, mesh_size=mesh_size, order=order, method=method,
-                            **adapt_options)
-    mesh = mesh_profile(profile, mesh_size)
+                            memory=memory, **adapt_options)
+    mesh = mesh_profile(profile, mesh_size, memory=memory)
     log.info("mesh: %d nodes, %d triangles", mesh.nnodes, mesh.nelements)
     return result_from_mesh(profile, mesh, method=method, order=order)
+
+
+#: A section whose centre lies farther from the origin than this many times its size
+#: is solved moved to the origin: at 1e6 sizes out the J bracket of a keyed shaft had
+#: widened from 3e-7 to 2e-4 (coordinates keep fewer digits for the mesh), at 1e10 the
+#: curved elements turned over, at 1e13 the mesher ran out of memory (issue 11).
+FAR_RATIO = 1e4
+
+
+def far_shift(profile: Profile) -> np.ndarray | None:
+    """The centre of the section's bounding box when it is far out (:data:`FAR_RATIO`), else None."""
+    lo, hi = profile.outer.min(axis=0), profile.outer.max(axis=0)
+    centre = 0.5 * (lo + hi)
+    if float(np.max(np.abs(centre))) <= FAR_RATIO * profile.size:
+        return None
+    return centre
+
+
+def _solved_at_origin(profile: Profile, shift: np.ndarray, **options) -> TorsionResult:
+    """Solve the profile moved by ``-shift``; the centroid and peak back where it lies."""
+    import dataclasses
+
+    local = profile.translated(-float(shift[0]), -float(shift[1]))
+    if local.curves:
+        # far out the points were rounded off their curves: put them back on
+        from .geometry.edges import _snapped
+
+        loops = [_snapped(xy, tags, local.curves)
+                 for xy, tags in zip(local.loops, local.edge_curves, strict=True)]
+        local = dataclasses.replace(
+            Profile.from_loops(loops, units=local.units, name=local.name, labels=local.labels,
+                               curves=local.curves, edge_curves=local.edge_curves),
+            notes=local.notes, unit_stated=local.unit_stated)
+    result = analyse(local, **options)
+    u = profile.units
+    far = float(np.hypot(*shift))
+    step = float(np.spacing(np.max(np.abs(profile.outer))))  # rounding of a coordinate there
+    rounded = (f"; its points there are rounded to {step:.2g} {u} ({step / profile.size:.1g} "
+               f"of its size), so the outline is only that exact" if step > 1e-9 * profile.size
+               else "")
+    note = (f"the section lies {far:.3g} {u} from the origin, {far / profile.size:.2g} times "
+            f"its size: it was solved moved to the origin (coordinates that far out keep too "
+            f"few digits for a fine mesh){rounded}; the centroid and peak location are given "
+            f"where the section lies, the mesh, the pictures and other positions relative to "
+            f"({shift[0]:.10g}, {shift[1]:.10g}) {u}")
+    cx, cy = result.centroid
+    px, py = result.peak_location
+    return dataclasses.replace(
+        result, centroid=(cx + float(shift[0]), cy + float(shift[1])),
+        peak_location=(px + float(shift[0]), py + float(shift[1])),
+        warnings=(note, *result.warnings))

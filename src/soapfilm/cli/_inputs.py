@@ -16,7 +16,14 @@ from __future__ import annotations
 
 import argparse
 
-from ..defaults import DEFAULT_MAX_ELEMENTS, DEFAULT_ORDER, DEFAULT_TOL, LENGTH_UNITS
+from ..defaults import (
+    DEFAULT_MAX_ELEMENTS,
+    DEFAULT_MEMORY,
+    DEFAULT_ORDER,
+    DEFAULT_TOL,
+    LENGTH_UNITS,
+    MEMORY_ENV,
+)
 
 __all__ = ["add_input_args", "input_options", "UNIT_RULE"]
 
@@ -27,7 +34,7 @@ UNIT_RULE = ("quantities take their unit (\"320 N*m\", \"80 mm\", \"79.3 GPa\");
 
 def add_input_args(p: argparse.ArgumentParser, *, accuracy: bool = True,
                    what: str = "the section file") -> None:
-    """Add --units, --layer, --join-tolerance, --mesh-size and the accuracy options."""
+    """Add --units, --layer, --join-tolerance, --mesh-size, --memory and the accuracy options."""
     g = p.add_argument_group("section input (every command that reads a section)")
     g.add_argument("--units", choices=sorted(LENGTH_UNITS),
                    help=f"length unit of {what} when it does not state one (point lists, "
@@ -43,6 +50,11 @@ def add_input_args(p: argparse.ArgumentParser, *, accuracy: bool = True,
                    help="element edge length, e.g. '0.5 mm'; a bare number is in the "
                         "section's unit (default: a shape file's [mesh] size, else from the "
                         "section); without --tol: one solve on that mesh")
+    g.add_argument("--memory", metavar="SIZE",
+                   help="memory budget of one section's analysis, e.g. '8 GB' or '1500 MB' (a "
+                        "bare number is in GB): a mesh whose analysis would need more is refused "
+                        "before it is made, and refinement stops within it (default "
+                        f"${MEMORY_ENV} if set, else {DEFAULT_MEMORY / 1e9:g} GB)")
     if accuracy:
         a = p.add_argument_group("accuracy")
         a.add_argument("--tol", type=float, metavar="REL",
@@ -73,4 +85,5 @@ def input_options(args, *, units: str | None = None):
         peak_tol=getattr(args, "peak_tol", None),
         max_elements=getattr(args, "max_elements", DEFAULT_MAX_ELEMENTS),
         order=getattr(args, "order", DEFAULT_ORDER),
+        memory=getattr(args, "memory", None),
     )

@@ -71,7 +71,7 @@ def job_options(args) -> dict:
     opts = {"units": o.units, "mesh_size": o.mesh_size, "order": o.order,
             "tol": "auto" if o.tol is None else o.tol, "peak_tol": o.peak_tol,
             "max_elements": o.max_elements, "layers": o.layers,
-            "join_tolerance": o.join_tolerance}
+            "join_tolerance": o.join_tolerance, "memory": o.memory}
     return {k: v for k, v in opts.items() if v is not None}
 
 

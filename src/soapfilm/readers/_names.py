@@ -20,6 +20,7 @@ CLI_HINTS = {
     "join_tolerance": "--join-tolerance {}",
     "units": "--units {}",
     "mesh_size": "--mesh-size {}",
+    "memory": "--memory {}",
 }
 
 _HINTS: contextvars.ContextVar[dict | None] = contextvars.ContextVar("soapfilm_option_hints",

@@ -91,6 +91,8 @@ from ..geometry.curves import Circle, Curve, Ellipse
 from ..geometry.edges import _intersection
 from ..geometry.spline import SplineCurve, monotone_pieces
 from ..profile import COORDINATE_LIMIT, LENGTH_UNITS, SMALLEST_SPAN, Profile
+from ..resources import MAX_LOOPS, check_count
+from ..shapes._geom import MIN_CHORD_REL
 from ..units import DrawingLength, parse_drawing_length
 from . import register
 from ._names import option_hint
@@ -585,7 +587,7 @@ def _select(doc, layers: Sequence[str] | None, where: str):
                 fix=f"layers with entities: {', '.join(used) or '(none)'}",
             )
     geometry, skipped = [], Counter()
-    for e in _expanded(msp):
+    for e in _expanded(msp, where):
         if wanted is not None and e.dxf.layer.lower() not in wanted:
             continue
         if e.dxftype() in GEOMETRY:
@@ -595,17 +597,41 @@ def _select(doc, layers: Sequence[str] | None, where: str):
     return geometry, skipped, used
 
 
-def _expanded(entities, depth: int = 0):
-    """The entities, with block references replaced by their (transformed) contents."""
+def _expanded(entities, where: str, depth: int = 0, chain: tuple[str, ...] = (),
+              count: list | None = None):
+    """The entities, with block references replaced by their (transformed) contents.
+
+    At most :data:`~soapfilm.resources.MAX_DXF_ENTITIES` entities in all after
+    expansion (counted as they come, so a block inserted a million times is
+    refused after the first hundred thousand), and no block inside itself.
+    """
+    from ..resources import MAX_DXF_ENTITIES
+
+    count = [0] if count is None else count
     for e in entities:
+        count[0] += 1
+        if count[0] > MAX_DXF_ENTITIES:
+            what = f" (block {chain[0]!r} expands to them)" if chain else ""
+            raise InputError(
+                f"the drawing holds more than {MAX_DXF_ENTITIES:,} entities once its block "
+                f"references are expanded{what}", where=where,
+                fix="put the section alone in a drawing of its own, without the blocks it "
+                    "does not need")
         if e.dxftype() != "INSERT" or depth >= _MAX_BLOCK_DEPTH:
             yield e
             continue
+        name = str(e.dxf.name)
+        if name in chain:
+            raise InputError(
+                f"block {name!r} inserts itself (INSERT #{e.dxf.handle} inside "
+                f"{' -> '.join(repr(c) for c in chain)}): a block cannot contain itself",
+                where=where, fix="remove the reference to the block from its own definition")
+        _check_insert(e, where)
         for i, ve in enumerate(e.virtual_entities()):
             ve.dxf.handle = f"{e.dxf.handle}.{i}"
             if ve.dxf.layer == "0":
                 ve.dxf.layer = e.dxf.layer
-            yield from _expanded([ve], depth + 1)
+            yield from _expanded([ve], where, depth + 1, (*chain, name), count)
 
 
 def _check_insert(insert, where: str) -> None:
@@ -635,21 +661,23 @@ class _Ends:
     def __init__(self, pieces: list[_Piece], tol: float):
         ends = np.array([[p.xy[0], p.xy[-1]] for p in pieces], dtype=float).reshape(-1, 2)
         n = len(ends)
-        parent = np.arange(n)
-
-        def find(i):
-            while parent[i] != i:
-                parent[i] = parent[parent[i]]
-                i = parent[i]
-            return i
-
+        node = np.zeros(n, dtype=int)
         if n:
-            for i, j in cKDTree(ends).query_pairs(tol, output_type="ndarray"):
-                ri, rj = find(i), find(j)
-                if ri != rj:
-                    parent[max(ri, rj)] = min(ri, rj)
-        roots = np.array([find(i) for i in range(n)], dtype=int)
-        _, node = np.unique(roots, return_inverse=True)
+            # ends within the tolerance of each other, transitively, are one node: the
+            # components of the graph of close pairs (identical ends merged first, so that
+            # many pieces meeting at one point do not make a pair for every two of them)
+            from scipy.sparse import coo_matrix
+            from scipy.sparse.csgraph import connected_components
+
+            uniq, inverse = np.unique(ends, axis=0, return_inverse=True)
+            pairs = cKDTree(uniq).query_pairs(tol, output_type="ndarray")
+            graph = coo_matrix((np.ones(len(pairs)), (pairs[:, 0], pairs[:, 1])),
+                               shape=(len(uniq), len(uniq)))
+            _, label = connected_components(graph, directed=False)
+            # numbered by each node's first end, as before
+            first = np.full(label.max() + 1, n)
+            np.minimum.at(first, label[inverse.ravel()], np.arange(n))
+            node = np.argsort(np.argsort(first))[label[inverse.ravel()]]
         self.node = node.reshape(-1, 2) if n else np.zeros((0, 2), dtype=int)
         nnodes = int(node.max()) + 1 if n else 0
         self.pos = np.zeros((nnodes, 2))
@@ -688,25 +716,70 @@ def _check_overlaps(pieces: list[_Piece], width: float, where: str) -> None:
         return
     lines = np.array([LineString(p.xy) for p in pieces], dtype=object)
     buffered = shapely.buffer(lines, width)
-    left, right = shapely.STRtree(lines).query(buffered, predicate="intersects")
-    keep = left < right
-    left, right = left[keep], right[keep]
-    common = shapely.intersection(lines[right], buffered[left])
-    length = shapely.length(common)
-    bad = np.flatnonzero(length > 50.0 * width)
-    if len(bad):
-        k = bad[np.argmax(length[bad])]
-        i, j, geom = left[k], right[k], common[k]
-        try:
-            at = shapely.line_interpolate_point(geom, 0.5, normalized=True)
-        except shapely.errors.GEOSException:
-            at = geom.representative_point()
-        raise InputError(
-            f"{pieces[i].name} and {pieces[j].name} overlap: they run within "
-            f"{_fmt(width)} of each other for {_fmt(float(length[k]))} near {_pt((at.x, at.y))}",
-            where=where,
-            fix="delete the doubled entity or trim the overlapping ones in the CAD program",
-        )
+    tree = shapely.STRtree(lines)
+    # a drawable outline has each piece near a few others: the pairs are O(n); the work
+    # goes in chunks and stops at a budget (pieces crossing each other by the thousand)
+    budget, seen = 20 * len(pieces) + 10_000, 0
+    for lo in range(0, len(pieces), _CHUNK):
+        left, right = tree.query(buffered[lo:lo + _CHUNK], predicate="intersects")
+        left = left + lo
+        keep = left < right
+        left, right = left[keep], right[keep]
+        seen += len(left)
+        common = shapely.intersection(lines[right], buffered[left])
+        length = shapely.length(common)
+        bad = np.flatnonzero(length > 50.0 * width)
+        if len(bad):
+            k = bad[np.argmax(length[bad])]
+            i, j, geom = left[k], right[k], common[k]
+            try:
+                at = shapely.line_interpolate_point(geom, 0.5, normalized=True)
+            except shapely.errors.GEOSException:
+                at = geom.representative_point()
+            raise InputError(
+                f"{pieces[i].name} and {pieces[j].name} overlap: they run within "
+                f"{_fmt(width)} of each other for {_fmt(float(length[k]))} near "
+                f"{_pt((at.x, at.y))}",
+                where=where,
+                fix="delete the doubled entity or trim the overlapping ones in the CAD program",
+            )
+        if seen > budget:
+            cross = shapely.crosses(lines[left], lines[right])
+            k = int(np.flatnonzero(cross)[0]) if np.any(cross) else 0
+            at = shapely.intersection(lines[left[k]], lines[right[k]]).representative_point()
+            raise InputError(
+                f"the pieces of the drawing cross each other: more than {budget:,} pairs come "
+                f"within {_fmt(width)} of each other, e.g. {pieces[left[k]].name} and "
+                f"{pieces[right[k]].name} near {_pt((at.x, at.y))}",
+                where=where,
+                fix="a section outline is closed loops that meet only end to end: put the "
+                    "section alone on a layer and pick it with " + option_hint("layers", "NAME"))
+
+
+#: pieces whose neighbours are looked up at once when checking for overlaps
+_CHUNK = 64
+#: more piece ends than this at one point is a branch however the pieces lie
+_MAX_DEGREE = 8
+
+
+def _check_crowded(pieces: list[_Piece], ends: _Ends, where: str) -> None:
+    """Raise for a point where more than :data:`_MAX_DEGREE` piece ends meet.
+
+    Checked before the overlaps: pieces fanning out of one point all lie
+    within the join tolerance of each other there, so the overlap check would
+    look at every pair of them.
+    """
+    degree = np.bincount(ends.node.ravel(), minlength=len(ends.pos))
+    if not len(degree) or degree.max() <= _MAX_DEGREE:
+        return
+    n = int(np.argmax(degree))
+    ks = sorted({k for k, _ in ends.incident[n]})
+    raise InputError(
+        f"{degree[n]} piece ends meet at {_pt(ends.pos[n])} "
+        f"({_names([pieces[i] for i in ks])}); an outline cannot branch",
+        where=where,
+        fix="split the drawing so that every end meets exactly one other",
+    )
 
 
 def _component(ends: _Ends, start_piece: int) -> set[int]:
@@ -1007,6 +1080,11 @@ def read_dxf(
                          "tool takes (J shrinks with the fourth power of the size)", where=where,
                          fix="check the drawing's numbers, unit and block scale factors")
     chord = chord_tolerance or DEFAULT_CHORD_TOLERANCE * size
+    if chord < MIN_CHORD_REL * size:
+        raise InputError(f"chord tolerance {chord:g} is below {MIN_CHORD_REL:g} of the drawing's "
+                         f"size {_fmt(size)}: its arcs would be flattened into millions of points",
+                         where=where, fix=f"give at least {MIN_CHORD_REL * size:.2g} (the exact "
+                                          "curves go to the solver, finer flattening gains nothing)")
     jtol = jtol_given or DEFAULT_JOIN_TOLERANCE * size
 
     pieces: list[_Piece] = []
@@ -1022,11 +1100,16 @@ def read_dxf(
         raise InputError(f"no section geometry{on} (every entity has zero length)", where=where)
 
     width = max(jtol, 2.0 * chord)
-    _check_overlaps(pieces, width, where)
     ends = _Ends(pieces, jtol)
+    _check_crowded(pieces, ends, where)
+    _check_overlaps(pieces, width, where)
     _check_nodes(pieces, ends, size, jtol, width, where, present, ulabel)
     traced = _trace(pieces, ends)
     loops = [xy for xy, _, _ in traced]
+    check_count("closed loops in the drawing", len(loops), MAX_LOOPS, where,
+                "a bar section with that many holes is out of this tool's scope; solve a "
+                "representative part of it, or pick the section's layers with "
+                + option_hint("layers", "NAME"))
     names = [_names([pieces[k] for k in members]) for _, _, members in traced]
     order = _nest(loops, names, where)
     labels = [f"{where} {'outside' if i == 0 else 'hole'} loop ({names[k]})"
@@ -1058,17 +1141,23 @@ def _nest(loops: list[np.ndarray], names: list[str], where: str) -> list[int]:
                 where=where,
                 fix="redraw it so that the outline does not cross over itself",
             )
-    for i in range(n):
-        for j in range(i + 1, n):
-            if rings[i].intersects(rings[j]):
-                at = rings[i].intersection(rings[j]).representative_point()
-                raise InputError(
-                    f"loop ({names[i]}) and loop ({names[j]}) cross or touch near "
-                    f"{_pt((at.x, at.y))}",
-                    where=where,
-                    fix="a section boundary is one outside loop and holes that keep clear of it",
-                )
-    depth = [sum(1 for j in range(n) if j != i and polys[j].contains(polys[i])) for i in range(n)]
+    tree = shapely.STRtree(np.array(rings, dtype=object))
+    left, right = tree.query(np.array(rings, dtype=object), predicate="intersects")
+    pairs = sorted((int(i), int(j)) for i, j in zip(left, right, strict=True) if i < j)
+    if pairs:
+        i, j = pairs[0]
+        at = rings[i].intersection(rings[j]).representative_point()
+        raise InputError(
+            f"loop ({names[i]}) and loop ({names[j]}) cross or touch near "
+            f"{_pt((at.x, at.y))}",
+            where=where,
+            fix="a section boundary is one outside loop and holes that keep clear of it",
+        )
+    # depth: how many other loops enclose each (rings apart, so within = inside)
+    inner, outer = shapely.STRtree(np.array(polys, dtype=object)).query(
+        np.array(polys, dtype=object), predicate="within")
+    inner = inner[inner != outer]
+    depth = np.bincount(inner, minlength=n).tolist()
     tops = [i for i in range(n) if depth[i] == 0]
     if len(tops) > 1:
         a, b = tops[0], tops[1]

@@ -48,6 +48,7 @@ from ..profile import Profile
 
 __all__ = [
     "DEFAULT_CHORD_REL",
+    "MIN_CHORD_REL",
     "COARSEST_CHORD_REL",
     "chord_for",
     "arc_segments",
@@ -63,6 +64,10 @@ __all__ = [
 
 #: default chord tolerance as a fraction of the shape's largest dimension
 DEFAULT_CHORD_REL = 1e-5
+#: smallest chord tolerance taken, as a fraction of the shape's largest dimension: finer
+#: flattening buys nothing (the exact curves go to the mesher and the solver) and a circle
+#: of the shape's size would get more than 15 000 points (resource guard, issue 11)
+MIN_CHORD_REL = 1e-8
 
 #: largest chord tolerance taken, as a fraction of the shape's largest dimension: the
 #: sagitta of a 10-degree step on a circle of that diameter, 0.5 (1 - cos 5 deg) = 1.9e-3
@@ -79,6 +84,15 @@ def chord_for(size: float, chord: float | None) -> float:
     if not (math.isfinite(chord) and chord > 0):
         raise InputError(f"chord tolerance must be a positive length, got {chord}",
                          where="chord", fix="give e.g. 0.001 (in the section's unit)")
+    least = MIN_CHORD_REL * float(size)
+    if chord < least:
+        points = math.pi / math.sqrt(2.0 * chord / (0.5 * float(size)))
+        raise InputError(f"chord tolerance {chord:g} would flatten a circle the size of the "
+                         f"section ({float(size):g}) into about {points:.2g} points",
+                         where="chord",
+                         fix=f"give at least {least:.2g} ({MIN_CHORD_REL:g} of the size; the "
+                             f"exact curves go to the solver, finer flattening gains nothing), "
+                             f"or leave chord out (default {DEFAULT_CHORD_REL:g} of the size)")
     # coarser than 10-degree steps on a circle the size of the shape resolves nothing more:
     # the polyline (tagged with its curves, which go to the solver) would no longer tell
     # a flat or a key side from the chord of an arc (issue 11: an octagon for a round bar)
