@@ -12,7 +12,8 @@ What must hold, with the outside source of each:
 - ``J_lo <= J`` and ``J <= J_hi``: the stress function's complementary energy is
   below J and the warping function's potential energy above it for any admissible
   field (Timoshenko & Goodier, Theory of Elasticity, 3rd ed., ch. 10); so
-  ``J_lo <= J_hi``, and two brackets of the same section, from any two meshes, overlap.
+  ``J_lo <= J_hi``, and two brackets of the same section, from any two meshes, overlap
+  - up to rounding, which on thin sections is larger than the bracket (:func:`rounding`).
 - ``J <= Ip``: the warping energy with ``w = 0`` is the polar moment (same source);
   checked on ``J_hi``, which the discrete minimisation keeps below ``Ip``.
 - Saint-Venant's inequality ``J <= A^2 / (2 pi)`` for a simply connected section
@@ -38,9 +39,9 @@ What must hold, with the outside source of each:
   checks the brackets, A and Ip on random sections and keeps the smallest failing
   peak examples found as strict xfail tests at the end of this file.
 - Dimensional analysis (common practice, no source): ``J ~ s^4``, ``tau/T ~ s^-3``,
-  ``A ~ s^2``, ``Ip ~ s^4``.  Scaled by a power of two with the mesh size scaled too,
-  every floating-point operation scales exactly (IEEE 754), so the laws hold to
-  rounding; by any other factor within the brackets and estimates.
+  ``A ~ s^2``, ``Ip ~ s^4``.  Scaled by a power of two with the mesh scaled too, every
+  floating-point operation scales exactly (IEEE 754), so the laws hold to the last
+  bit; by any other factor, on a fresh mesh of the scaled size, within the brackets.
 - Determinism: the same profile solved twice gives the same ``to_dict()``.
 
 ``CI`` below runs a few hundred examples in all (about 40 s on 2 cores);
@@ -50,6 +51,7 @@ checks, peaks included, and prints the worst margins and every failure.
 
 from __future__ import annotations
 
+import dataclasses
 import math
 from dataclasses import dataclass, field
 
@@ -60,7 +62,7 @@ from hypothesis import HealthCheck, assume, given, note, settings
 from hypothesis import strategies as st
 from shapely.geometry import LinearRing, Point, Polygon
 
-from soapfilm import Profile, analyse
+from soapfilm import Profile, analyse, result_from_mesh
 from soapfilm.mesh import default_mesh_size, mesh_profile
 
 # ---------------------------------------------------------------------------- settings
@@ -196,15 +198,21 @@ def sections(draw, max_holes: int = 3, smooth: bool = False) -> Case:
     return Case(loops, aspect, size, tuple(gaps))
 
 
-def mesh_size_for(profile: Profile, coarseness: float, max_elements: int) -> float | None:
-    """``coarseness`` times the default element size, doubled until the mesh has at most
-    ``max_elements`` elements (Triangle refines near sharp tips and narrow gaps whatever
-    the size asked); None if four doublings do not get there."""
-    h = coarseness * default_mesh_size(profile)
-    for _ in range(5):
-        if mesh_profile(profile, h).nelements <= max_elements:
+def mesh_size_for(profile: Profile, coarse: float, max_elements: int) -> float | None:
+    """``coarse`` times the default element size, made finer until the mesh has a node
+    inside the section (a coarse size on a thin section can leave every node on the
+    boundary, which soapfilm refuses with an InputError) and coarser until it has at
+    most ``max_elements`` elements (Triangle refines near sharp tips and narrow gaps
+    whatever the size asked); None if eight tries do not get there."""
+    h = coarse * default_mesh_size(profile)
+    for _ in range(8):
+        m = mesh_profile(profile, h)
+        if np.setdiff1d(np.arange(m.nnodes), m.segments.ravel()).size == 0:
+            h *= 0.5
+        elif m.nelements > max_elements:
+            h *= 2.0
+        else:
             return h
-        h *= 2.0
     return None
 
 
@@ -237,9 +245,19 @@ def assert_margins(margins) -> None:
     assert not bad, "; ".join(f"{m.name}: {m.value:.3e} > {m.limit:.1e}" for m in bad)
 
 
-#: rounding allowance of the J inequalities (relative); the benchmark reports the
-#: largest value seen, the properties themselves are exact
+#: rounding allowance of the inequalities that are not tight (relative)
 ROUNDING = 1e-10
+EPS = np.finfo(float).eps
+
+
+def rounding(r) -> float:
+    """Rounding allowance of J_lo <= J_hi and of two brackets' overlap (relative to J).
+
+    ``J_hi = Ip - 2 f.w + a(w, w)`` cancels terms of size Ip down to J, so its rounding
+    is some eps * Ip / J relative: 1e-16 on a round bar, 2e-10 on a 1:1000 section,
+    where the benchmark saw J_lo above J_hi by 6e-10 (about 2.5 eps Ip / J).
+    """
+    return 1e-12 + 32.0 * EPS * r.polar_moment / r.torsion_constant
 
 
 def bound_margins(profile: Profile, r) -> list[Margin]:
@@ -255,7 +273,7 @@ def bound_margins(profile: Profile, r) -> list[Margin]:
     boundary = profile.polygon.boundary
     return [
         Margin("J_lo > 0", -lo / hi, 0.0),
-        Margin("J_lo <= J_hi", (lo - hi) / hi, ROUNDING),
+        Margin("J_lo <= J_hi", (lo - hi) / hi, rounding(r)),
         Margin("J_hi <= Ip", (hi - r.polar_moment) / r.polar_moment, ROUNDING),
         Margin("Saint-Venant J_lo <= A_outer^2/(2 pi)", (lo - sv) / sv, ROUNDING),
         Margin("inscribed disc pi r^4/2 <= J_hi", (j_disc - hi) / hi, ROUNDING),
@@ -284,7 +302,7 @@ def same_shape_margins(what: str, ra, rb, scale: float = 1.0, peaks: bool = True
     out = [
         Margin(f"{what}: J brackets overlap",
                overlap(ra.torsion_constant_bounds, [v / s4 for v in rb.torsion_constant_bounds]),
-               ROUNDING),
+               max(rounding(ra), rounding(rb))),
         Margin(f"{what}: area", abs(rb.area / (s2 * ra.area) - 1.0), 1e-9),
         Margin(f"{what}: Ip", abs(rb.polar_moment / (s4 * ra.polar_moment) - 1.0), 1e-9),
     ]
@@ -349,23 +367,34 @@ def check_motion(case: Case, order: int, coarse: float, max_elements: int, motio
 
 def check_scaling(case: Case, order: int, coarse: float, max_elements: int, power: int,
                   factor: float, peaks: bool = False) -> Outcome | None:
-    """Scaled by ``2**power`` (exact laws) and by ``factor`` (within the brackets)."""
+    """Scaled by ``2**power`` on the same mesh scaled (exact laws) and by ``factor`` on a
+    fresh mesh of the scaled size (within the brackets).
+
+    Every floating-point operation of the solver scales exactly by a power of two, so
+    the first is exact to the last bit; Triangle does not always mesh a 2^k copy the
+    same way (about 1 section in 600 in the benchmark), so the fresh mesh is not used
+    for it (``Triangle's 2^k mesh differs`` counts how often, for the record).
+    """
     prof = case.profile()
     h = mesh_size_for(prof, coarse, max_elements)
     if h is None:
         return None
     ra = analyse(prof, mesh_size=h, order=order)
     s = 2.0**power
-    rb = analyse(prof.scaled(s), mesh_size=h * s, order=order)
+    big = prof.scaled(s)
+    mesh = dataclasses.replace(ra.mesh, p=ra.mesh.p * s, hole_areas=ra.mesh.hole_areas * s**2)
+    rb = result_from_mesh(big, mesh, order=order)
     exact = [
         ("J_lo", ra.torsion_constant_bounds[0] * s**4, rb.torsion_constant_bounds[0]),
         ("J_hi", ra.torsion_constant_bounds[1] * s**4, rb.torsion_constant_bounds[1]),
         ("tau/T", ra.max_shear_per_torque / s**3, rb.max_shear_per_torque),
         ("A", ra.area * s**2, rb.area),
         ("Ip", ra.polar_moment * s**4, rb.polar_moment),
-        ("elements", ra.mesh.nelements, rb.mesh.nelements),
     ]
     margins = [Margin(f"scaled by 2^k: {name}", abs(b / a - 1.0), 1e-12) for name, a, b in exact]
+    remeshed = mesh_profile(big, h * s)
+    same = remeshed.t.shape == ra.mesh.t.shape and np.array_equal(remeshed.p, mesh.p)
+    margins.append(Margin("Triangle's 2^k mesh differs", 0.0 if same else 1.0, math.inf))
     rc = analyse(prof.scaled(factor), mesh_size=h * factor, order=order)
     return Outcome(margins + same_shape_margins("scaled", ra, rc, factor, peaks=peaks),
                    ra.mesh.nelements)

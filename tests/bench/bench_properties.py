@@ -61,6 +61,7 @@ class Tally:
     elements: list = field(default_factory=list)
     worst: dict = field(default_factory=dict)  # margin name -> (value, limit, case repr, params)
     failures: dict = field(default_factory=dict)  # margin name -> count
+    seen: dict = field(default_factory=dict)  # record-only margin name -> count of value > 0
     examples_failed: list = field(default_factory=list)  # (names, case repr, params, seed)
     coverage: dict = field(default_factory=lambda: {
         "size_min": math.inf, "size_max": 0.0, "aspect_min": 1.0, "gap_min": math.inf,
@@ -83,6 +84,8 @@ class Tally:
             value = float(m.value)
             if name not in self.worst or not value <= self.worst[name][0]:
                 self.worst[name] = (value, m.limit, repr(case), params)
+            if m.limit == math.inf and value > 0:
+                self.seen[name] = self.seen.get(name, 0) + 1
             if not m.ok:
                 self.failures[name] = self.failures.get(name, 0) + 1
                 bad.append(m.name)
@@ -99,6 +102,8 @@ class Tally:
                 self.worst[k] = v
         for k, n in other.failures.items():
             self.failures[k] = self.failures.get(k, 0) + n
+        for k, n in other.seen.items():
+            self.seen[k] = self.seen.get(k, 0) + n
         self.examples_failed += other.examples_failed[: max(0, 20 - len(self.examples_failed))]
         for k in ("size_min", "aspect_min", "gap_min"):
             self.coverage[k] = min(self.coverage[k], other.coverage[k])
@@ -210,6 +215,10 @@ def report(tallies: dict, wall: float, planned: int, workers: int) -> str:
                      f"{cov['gap_min']:.1e} of the size")
         for name, (value, limit, _, _) in sorted(t.worst.items()):
             n = t.failures.get(name, 0)
+            if limit == math.inf:  # for the record, not a property
+                n = t.seen.get(name, 0)
+                lines.append(f"    {name:<48} seen in {n} ({100 * n / t.examples:.2f} %)")
+                continue
             lines.append(f"    {name:<48} worst {_fmt(value):>10} (limit {limit:g})  "
                          f"failures {n} ({100 * n / t.examples:.2f} %)")
         for bad, case, params, s in t.examples_failed[:5]:
