@@ -223,15 +223,17 @@ def refine_until(
 
 
 def _next_count(mesh: Mesh, limit: np.ndarray) -> float:
-    """Elements after refining to the per-element area ``limit`` (estimate).
+    """Elements after refining to the per-element area ``limit`` (an upper estimate).
 
-    Each element becomes about ``area / limit`` elements, and the 30-degree
-    quality condition adds about a tenth round the refined ones (measured on
-    the adaptive runs of the keyed shaft and the closed-form sections).
+    Element ``e`` alone would become ``area_e / limit_e`` elements; Triangle's
+    30-degree condition then splits neighbours too, which made the increase
+    2.0 to 3.0 times that (measured over the adaptive runs of a square, a
+    keyed shaft and a tube, linear and quadratic: DEVELOPERS.md, "Resource
+    guard"), hence three times.
     """
     area = np.abs(mesh.element_areas())
     split = np.where(np.isfinite(limit), area / np.maximum(limit, 1e-300), 1.0)
-    return float(np.sum(np.maximum(split, 1.0)) + 0.1 * np.sum(split[split > 1.0]))
+    return mesh.nelements + 3.0 * float(np.sum(np.maximum(split, 1.0)) - mesh.nelements)
 
 
 def _next_limit(mesh, fields, peak, refine_j, refine_peak, theta, h_floor, peak_tol

@@ -101,7 +101,7 @@ def parse_memory(value, where: str = "--memory") -> int:
     """A memory budget in bytes from ``"4 GB"``, ``"1500 MB"``, ``"2 GiB"`` or a number.
 
     Text without a unit is in GB; a Python number is in bytes.  The budget
-    must be at least 100 MB (below that not even the libraries fit).
+    must be at least 500 MB (the libraries alone take about half of that).
 
     Examples
     --------
@@ -123,9 +123,9 @@ def parse_memory(value, where: str = "--memory") -> int:
                              fix="give e.g. \"4 GB\", \"1500 MB\" or \"2 GiB\" (a bare number "
                                  "is in GB)")
         nbytes = float(m.group(1)) * _UNITS[unit]
-    if not math.isfinite(nbytes) or nbytes < 100e6:
+    if not math.isfinite(nbytes) or nbytes < 500e6:
         raise InputError(f"{text[:40]} is too little memory for an analysis", where=where,
-                         fix="give at least \"100 MB\", e.g. \"4 GB\"")
+                         fix="give at least \"500 MB\", e.g. \"4 GB\"")
     return int(min(nbytes, 2.0**62))
 
 

@@ -59,7 +59,7 @@ def run(args) -> int:
             from ..mesh import mesh_profile
 
             kw = analyse_options(profile, settings, opts)
-            mesh = mesh_profile(profile, kw["mesh_size"])
+            mesh = mesh_profile(profile, kw["mesh_size"], memory=kw["memory"])
     out = run_outputs()
     out.stage(args.out, figure_bytes(draw_section(profile, mesh=mesh), figure_format(args.out)),
               "--png")

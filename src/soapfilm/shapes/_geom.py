@@ -88,11 +88,11 @@ def chord_for(size: float, chord: float | None) -> float:
     if chord < least:
         points = math.pi / math.sqrt(2.0 * chord / (0.5 * float(size)))
         raise InputError(f"chord tolerance {chord:g} would flatten a circle the size of the "
-                         f"section ({float(size):g}) into about {points:.2g} points",
-                         where="chord",
-                         fix=f"give at least {least:.2g} ({MIN_CHORD_REL:g} of the size; the "
-                             f"exact curves go to the solver, finer flattening gains nothing), "
-                             f"or leave chord out (default {DEFAULT_CHORD_REL:g} of the size)")
+                         f"section, {float(size):g}, into about {points:.2g} points; finer than "
+                         f"{MIN_CHORD_REL:g} of the size gains nothing, the solver takes the "
+                         f"exact curves", where="chord",
+                         fix=f"give at least {least:.2g}, or leave chord out for the default, "
+                             f"{DEFAULT_CHORD_REL:g} of the size")
     # coarser than 10-degree steps on a circle the size of the shape resolves nothing more:
     # the polyline (tagged with its curves, which go to the solver) would no longer tell
     # a flat or a key side from the chord of an arc (issue 11: an octagon for a round bar)
