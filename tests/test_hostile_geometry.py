@@ -257,6 +257,36 @@ def test_non_finite_bulges_are_one_line(tmp_path, capsys, bulge):
     _refused(capsys, path, "LWPOLYLINE #", "vertex 2")
 
 
+NAN = math.nan
+ENTITIES = {  # drawing -> (entity named, what the message says)
+    "arc-angle": (lambda msp: (msp.add_arc((0, 0), 5, 0, NAN), msp.add_line((5, 0), (-5, 0))),
+                  "ARC #", "not all finite"),
+    "circle-radius": (lambda msp: msp.add_circle((0, 0), math.inf), "CIRCLE #", "not all finite"),
+    "line-end": (lambda msp: (msp.add_line((0, 0), (NAN, 0)), msp.add_line((0, 0), (0, 1))),
+                 "LINE #", "not finite numbers"),
+    "polyline-3d-z": (lambda msp: msp.add_polyline3d([(0, 0, 0), (1, 0, NAN), (1, 1, 0)],
+                                                     close=True), "POLYLINE #", "not all finite"),
+    "lwpolyline-1e60": (lambda msp: msp.add_lwpolyline([(0, 0), (1e60, 0), (1e60, 1)],
+                                                       close=True), "LWPOLYLINE #",
+                        "beyond the 1e+50"),
+}
+
+
+@pytest.mark.parametrize("case", ENTITIES)
+def test_entities_with_numbers_out_of_range_are_one_line(tmp_path, capsys, case):
+    draw, name, message = ENTITIES[case]
+    _refused(capsys, _dxf(tmp_path, f"{case}.dxf", lambda doc, msp: draw(msp)), name, message)
+
+
+def test_an_ellipse_ratio_that_is_not_a_number_is_one_line(tmp_path, capsys):
+    """Written into the file by hand: ezdxf will not make such an ELLIPSE itself."""
+    path = _dxf(tmp_path, "ratio.dxf", lambda doc, msp: msp.add_ellipse((0, 0), (10, 0, 0), 0.5))
+    text = path.read_text()
+    at = text.index("AcDbEllipse")
+    path.write_text(text[:at] + text[at:].replace(" 40\n0.5\n", " 40\nnan\n", 1))
+    _refused(capsys, path, "ELLIPSE #", "not a finite number")
+
+
 def test_a_bulge_of_1e300_is_out_of_range(tmp_path, capsys):
     path = _dxf(tmp_path, "bulge.dxf", lambda doc, msp: msp.add_lwpolyline(
         [(0, 0, 0), (10, 0, 1e300), (10, 10, 0), (0, 10, 0)], format="xyb", close=True))

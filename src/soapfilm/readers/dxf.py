@@ -342,6 +342,10 @@ def _check_range(entity, parts: list[_Path], where: str) -> None:
 def _flat_xy(entity, points: Iterable, where: str) -> np.ndarray:
     """XY of world points, refusing entities that leave the XY plane."""
     xyz = np.array([(p[0], p[1], p[2]) for p in points], dtype=float).reshape(-1, 3)
+    if not np.all(np.isfinite(xyz)):
+        raise InputError(f"{entity.dxftype()} #{entity.dxf.handle} has a point whose "
+                         "coordinates are not all finite numbers", where=where,
+                         fix="check the drawing's numbers")
     if len(xyz) and np.ptp(xyz[:, 2]) > 1e-9 * max(float(np.ptp(xyz[:, :2])), 1e-300):
         raise InputError(
             f"{entity.dxftype()} #{entity.dxf.handle} leaves the XY plane "
@@ -467,10 +471,13 @@ def _flatten(entity, chord: float, where: str) -> list[_Path] | None:
     if kind in ("ARC", "CIRCLE"):
         _plane_check(entity, where)
         c, r = entity.dxf.center, float(entity.dxf.radius)
-        if not (math.isfinite(r) and all(math.isfinite(v) for v in c)):
+        angles = [float(entity.dxf.start_angle), float(entity.dxf.end_angle)] \
+            if kind == "ARC" else []
+        if not (math.isfinite(r) and all(math.isfinite(v) for v in (*c, *angles))):
+            more = f" and angles {tuple(angles)}" if angles else ""
             raise InputError(f"{kind} #{entity.dxf.handle} has a centre "
-                             f"{tuple(float(v) for v in c)} and radius {r}: not finite numbers",
-                             where=where, fix="redraw it in the CAD program")
+                             f"{tuple(float(v) for v in c)}, radius {r}{more}: not all finite "
+                             "numbers", where=where, fix="redraw it in the CAD program")
         if not r > 0:
             return []
         if kind == "CIRCLE":
