@@ -51,7 +51,8 @@ def main():
     a = ap.parse_args()
     prof = keyed_section()
     t0 = time.perf_counter()
-    ref0 = analyse(prof, tol=2e-5, peak_tol=2e-4, order=2, max_elements=3_000_000)
+    ref0 = analyse(prof, tol=2e-5, peak_tol=2e-4, order=2, max_elements=3_000_000,
+                   memory="16 GB")
     mesh = uniformly_refined(uniformly_refined(ref0.mesh))
     ref = result_from_mesh(prof, mesh, order=2)
     t_ref = time.perf_counter() - t0
