@@ -19,7 +19,7 @@ from collections.abc import Iterator
 
 __all__ = ["c_output_captured"]
 
-_LOCK = threading.Lock()  # descriptor 1 belongs to the whole process: one capture at a time
+_LOCK = threading.RLock()  # descriptor 1 belongs to the whole process: one capture at a time
 
 
 def _flush_c_streams() -> None:
