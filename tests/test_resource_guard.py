@@ -133,6 +133,22 @@ def test_far_round_bar_with_exact_curves(tmp_path, capsys):
     assert data["max_shear_per_torque"] == pytest.approx(tau, rel=3e-3)
 
 
+def test_far_section_not_meshed_in_place(tmp_path, capsys):
+    """show --mesh meshes where the section lies: 1e13 sizes out it is refused with the move to
+    make (solve moves it itself); mesh_profile() in the API likewise."""
+    src = tmp_path / "far.toml"
+    src.write_text('units = "mm"\n[section]\nkind = "round"\ndiameter = 10\n'
+                   "position = [1e14, 0]\n")
+    before = sorted(p.name for p in tmp_path.iterdir())
+    assert main(["show", str(src), "--mesh", "--png", str(tmp_path / "far.png")]) == 2
+    err = capsys.readouterr().err.strip()
+    assert len(err.splitlines()) == 1 and "move it near the origin, by -1e+14 mm in x" in err
+    assert sorted(p.name for p in tmp_path.iterdir()) == before
+    sq = Profile.from_loops([[(1e14, 0), (1e14 + 10, 0), (1e14 + 10, 5), (1e14, 5)]])
+    with pytest.raises(InputError, match="1e\\+13 times its size"):
+        mesh_profile(sq)
+
+
 def test_far_translation_leaves_near_sections_alone():
     """Sections within 1e4 sizes of the origin are meshed where they are (bit for bit)."""
     from soapfilm.solve import FAR_RATIO, far_shift

@@ -203,8 +203,9 @@ def mesh_profile(profile: Profile, size: float | None = None, *, memory=None) ->
         section and the size before it is made (:mod:`soapfilm.resources`)
         and refused with one line when its analysis would need more.
     """
-    from .resources import check_mesh, precheck_mesh
+    from .resources import check_far, check_mesh, precheck_mesh
 
+    check_far(profile)  # analyse() solves far sections moved to the origin; a mesh there cannot
     if size is None:
         size = default_mesh_size(profile)
     if not np.isfinite(size) or size <= 0:

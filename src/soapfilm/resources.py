@@ -60,6 +60,7 @@ from .defaults import DEFAULT_MEMORY, MEMORY_ENV
 from .errors import InputError
 
 __all__ = ["MeshEstimate", "estimate_mesh", "check_mesh", "precheck_mesh", "check_elements",
+           "check_far", "MESH_FAR_RATIO",
            "memory_needed", "elements_within", "parse_memory", "format_bytes", "memory_budget",
            "physical_memory", "check_count", "starting_polygon", "MAX_LOOPS", "MAX_POINTS",
            "MAX_DXF_ENTITIES", "MAX_SWEEP_ROWS", "BASE_BYTES", "BYTES_PER_ELEMENT", "KAPPA_AREA",
@@ -184,6 +185,34 @@ def check_elements(elements: int, memory=None, where: str | None = None, fix: st
                          f"{format_bytes(need)} of memory, more than the budget of "
                          f"{format_bytes(budget)}", where=where,
                          fix=", or ".join(x for x in (fix, _raise_hint(need, option_hint)) if x))
+
+
+#: A mesh is made where the section lies up to this many times its size from the origin;
+#: farther out its nodes would keep fewer than about ten digits of the section's shape
+#: (``analyse`` solves such sections moved to the origin, :func:`soapfilm.solve.far_shift`)
+MESH_FAR_RATIO = 1e6
+
+
+def check_far(profile) -> None:
+    """Refuse to mesh a section lying farther than :data:`MESH_FAR_RATIO` sizes out.
+
+    At 1e13 sizes out (a 10 mm section at x = 1e14 mm) coordinates are rounded
+    to 0.016 mm and Triangle, inserting points it cannot place, ran out of
+    memory (issue 11).
+    """
+    import numpy as np
+
+    lo, hi = profile.outer.min(axis=0), profile.outer.max(axis=0)
+    centre = 0.5 * (lo + hi)
+    far = float(np.hypot(*centre))
+    if far > MESH_FAR_RATIO * profile.size:
+        u = profile.units
+        raise InputError(
+            f"the section lies {far:.3g} {u} from the origin, {far / profile.size:.2g} times its "
+            f"size: a mesh there would keep too few digits of its shape", where=None,
+            fix=f"move it near the origin, by {-centre[0] + 0.0:.6g} {u} in x and "
+                f"{-centre[1] + 0.0:.6g} {u} in y: its torsion properties do not depend on where "
+                f"it lies, and soapfilm solve moves it itself")
 
 
 def check_count(what: str, count: int, limit: int, where: str | None, fix: str) -> None:
