@@ -322,10 +322,11 @@ def test_python_api_refuses_by_default_and_takes_a_budget():
     with pytest.raises(InputError, match="more than the budget of 4 GB"):
         mesh_profile(tail)
     sq = Profile.from_loops([[(0, 0), (10, 0), (10, 10), (0, 10)]])
-    # 0.02 mm on a 10 mm square: 3.67 * 100 / 0.02^2 = 9.2e5 elements, 3.7 GB: fits 4 GB
-    # only just, not 1 GB
+    # 0.05 mm on a 10 mm square: 3.67 * 100 / 0.05^2 = 1.5e5 elements, 1.3 GB with the model:
+    # within 4 GB, not within 1 GB
+    assert memory_needed(estimate_mesh(sq, 0.05).elements) < parse_memory("4 GB")
     with pytest.raises(InputError, match="more than the budget of 1 GB"):
-        analyse(sq, mesh_size=0.02, memory="1 GB")
+        analyse(sq, mesh_size=0.05, memory="1 GB")
     with pytest.raises(InputError, match="more than this machine's memory"):
         analyse(sq, memory="1e9 GB")
 

@@ -43,10 +43,12 @@ of the issue-11 square, 5 mm long, about 8e7.  The constants are measured
 Memory
 ------
 ``BASE_BYTES + BYTES_PER_ELEMENT * elements``: the interpreter with the
-scientific libraries, plus the mesh, both fields of quadratic (or linear,
-checked by quadratic) elements, the solver's factors or multigrid hierarchy
-and the peak and bound computations, per element (measured peak resident
-memory through ``analyse`` on uniform meshes, DEVELOPERS.md).
+scientific libraries, plus, per element, the mesh, both fields of quadratic
+(or linear, checked by quadratic) elements, the solver's factors or
+multigrid hierarchy, the peak and bound computations, and the pictures,
+report and mesh file drawn from them (measured peak resident memory of
+``soapfilm solve`` with every output, and of ``analyse`` on uniform and
+adaptive meshes, DEVELOPERS.md).
 """
 
 from __future__ import annotations
@@ -68,8 +70,10 @@ __all__ = ["MeshEstimate", "estimate_mesh", "check_mesh", "precheck_mesh", "chec
 
 #: resident memory of a process with the scientific libraries loaded, before any mesh
 BASE_BYTES = 250e6
-#: peak memory per element of a full analysis (mesh, both fields, solver, bounds, peak)
-BYTES_PER_ELEMENT = 3.8e3
+#: peak memory per element of a full analysis (mesh, both fields, solver, bounds, peak:
+#: 3.1-3.5 kB measured) with every output drawn from it (shear, warping and 3D pictures,
+#: the report, the mesh file: 2.4-2.7 kB more), and a margin (DEVELOPERS.md)
+BYTES_PER_ELEMENT = 7.0e3
 
 #: elements per (element size)^2 of area (4/sqrt(3) for equilateral triangles of side h,
 #: times 1.59: Triangle's elements average 1/1.59 of the area limit, measured)
