@@ -62,12 +62,17 @@ class Tally:
     worst: dict = field(default_factory=dict)  # margin name -> (value, limit, case repr, params)
     failures: dict = field(default_factory=dict)  # margin name -> count
     seen: dict = field(default_factory=dict)  # record-only margin name -> count of value > 0
+    keys: set = field(default_factory=set)  # examples seen in this chunk
     examples_failed: list = field(default_factory=list)  # (names, case repr, params, seed)
     coverage: dict = field(default_factory=lambda: {
         "size_min": math.inf, "size_max": 0.0, "aspect_min": 1.0, "gap_min": math.inf,
         "with_holes": 0})
 
     def record(self, case, params, outcome, seconds, chunk_seed):
+        key = hash((repr(case), params))
+        if key in self.keys:
+            return  # hypothesis ran this example before: count it once
+        self.keys.add(key)
         self.examples += 1
         self.seconds += seconds
         self.elements.append(outcome.elements)
