@@ -64,6 +64,7 @@ class Tally:
     seen: dict = field(default_factory=dict)  # record-only margin name -> count of value > 0
     keys: set = field(default_factory=set)  # examples seen in this chunk
     examples_failed: list = field(default_factory=list)  # (names, case repr, params, seed)
+    kept: dict = field(default_factory=dict)  # margin name -> failing examples kept
     coverage: dict = field(default_factory=lambda: {
         "size_min": math.inf, "size_max": 0.0, "aspect_min": 1.0, "gap_min": math.inf,
         "with_holes": 0})
@@ -94,8 +95,12 @@ class Tally:
             if not m.ok:
                 self.failures[name] = self.failures.get(name, 0) + 1
                 bad.append(m.name)
-        if bad and len(self.examples_failed) < 20:
-            self.examples_failed.append((bad, repr(case), params, chunk_seed))
+        for name in bad:  # the first three of every kind of failure
+            if self.kept.get(name, 0) < 3:
+                self.kept[name] = self.kept.get(name, 0) + 1
+                self.examples_failed.append(([name] + [b for b in bad if b != name], repr(case),
+                                             params, chunk_seed))
+                break
 
     def merge(self, other: Tally) -> None:
         self.examples += other.examples
@@ -109,7 +114,11 @@ class Tally:
             self.failures[k] = self.failures.get(k, 0) + n
         for k, n in other.seen.items():
             self.seen[k] = self.seen.get(k, 0) + n
-        self.examples_failed += other.examples_failed[: max(0, 20 - len(self.examples_failed))]
+        for entry in other.examples_failed:
+            name = entry[0][0]
+            if self.kept.get(name, 0) < 3:
+                self.kept[name] = self.kept.get(name, 0) + 1
+                self.examples_failed.append(entry)
         for k in ("size_min", "aspect_min", "gap_min"):
             self.coverage[k] = min(self.coverage[k], other.coverage[k])
         self.coverage["size_max"] = max(self.coverage["size_max"], other.coverage["size_max"])
@@ -226,7 +235,7 @@ def report(tallies: dict, wall: float, planned: int, workers: int) -> str:
                 continue
             lines.append(f"    {name:<48} worst {_fmt(value):>10} (limit {limit:g})  "
                          f"failures {n} ({100 * n / t.examples:.2f} %)")
-        for bad, case, params, s in t.examples_failed[:5]:
+        for bad, case, params, s in t.examples_failed:
             lines.append(f"    FAILED {bad} chunk seed {s} params {params}\n      {case}")
     return "\n".join(lines)
 
@@ -239,6 +248,7 @@ def main(argv=None) -> int:
     ap.add_argument("--chunk", type=int, default=50)
     ap.add_argument("--seed", type=int, default=0)
     ap.add_argument("--json", type=Path, help="write the tallies here")
+    ap.add_argument("--only", choices=list(CHECKS), help="run the chunks of this check only")
     ap.add_argument("--replay", help="CHECK:SEED:N - rerun one chunk, stop and shrink at a failure")
     args = ap.parse_args(argv)
     if args.replay:
@@ -250,7 +260,8 @@ def main(argv=None) -> int:
             return 1
         print(report({check: t}, t.seconds, int(n), 1))
         return 0
-    chunks = plan(args.examples, args.chunk, args.seed)
+    chunks = [c for c in plan(args.examples, args.chunk, args.seed)
+              if args.only is None or c[0] == args.only]
     tallies = {c: Tally(c) for c in CHECKS}
     t0 = time.perf_counter()
     deadline = t0 + 60.0 * args.minutes
