@@ -40,7 +40,8 @@ _EPILOG = ("exit status: 0 done (a check passed), 1 internal error (a bug: rerun
            "GPa or deg/m; mesh size and join tolerance bare are in the drawing's unit.")
 
 
-def build_parser() -> argparse.ArgumentParser:
+def build_parser(only: str | None = None) -> argparse.ArgumentParser:
+    """The argument parser: every subcommand, or ``only`` that one (see :func:`_command_in`)."""
     parser = _Parser(
         prog="soapfilm",
         description="Torsion constant, peak shear and shaft checks for non-circular bar sections.",
@@ -53,7 +54,7 @@ def build_parser() -> argparse.ArgumentParser:
     parser.add_argument("--version", action="version", version=f"soapfilm {VERSION}")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
     parser._commands = {}
-    for name in SUBCOMMANDS:
+    for name in SUBCOMMANDS if only is None else [only]:
         mod = importlib.import_module(f".{name}", __name__)
         p = sub.add_parser(mod.NAME, help=mod.HELP, description=mod.HELP, epilog=_EPILOG)
         # before or after the command: `soapfilm --debug solve ...` = `soapfilm solve --debug`
@@ -142,9 +143,23 @@ def _routed(debug: bool):
         root.removeHandler(handler)
 
 
+def _command_in(argv: list[str]) -> str | None:
+    """The subcommand ``argv`` runs, when nothing but ``--debug`` comes before it.
+
+    Only that subcommand's module is imported and its parser built (the
+    others' option definitions cost start-up time, ``tests/bench/bench_startup.py``);
+    anything else (``--help``, ``--version``, an unknown or missing command)
+    builds them all, so the top-level help and argparse's messages are whole.
+    """
+    for token in argv:
+        if token != "--debug":
+            return token if token in SUBCOMMANDS else None
+    return None
+
+
 def main(argv: list[str] | None = None) -> int:
     """Run the command line; return the exit status."""
-    parser = build_parser()
+    parser = build_parser(_command_in(sys.argv[1:] if argv is None else list(argv)))
     args, extra = parser.parse_known_args(argv)
     if extra:  # name the command's own help, not the top level's
         target = parser._commands.get(getattr(args, "command", None), parser)
@@ -166,8 +181,8 @@ def _run(args) -> int:
     try:
         return int(args._run(args) or 0)
     except SoapfilmError as exc:
-        if args.debug:
-            raise
+        if args.debug:  # the traceback asked for, then the same line and status as without
+            _print_traceback()
         print(f"soapfilm: error: {one_line(exc, 4 * 300)}", file=sys.stderr)
         return 2
     except KeyboardInterrupt:
@@ -181,16 +196,23 @@ def _run(args) -> int:
         return 0
     except MemoryError:
         if args.debug:
-            raise
+            _print_traceback()
         print("soapfilm: error: out of memory (use a larger --mesh-size, a looser --tol or a "
               "smaller --max-elements)", file=sys.stderr)
         return 2
     except Exception as exc:  # a bug, not a user error: one line, traceback with --debug
         if args.debug:
-            raise
+            _print_traceback()
         print(f"soapfilm: internal error: {type(exc).__name__}: {one_line(exc)} (this is a bug in "
               "soapfilm; rerun with --debug and report the traceback)", file=sys.stderr)
         return 1
+
+
+def _print_traceback() -> None:
+    """With ``--debug``: the traceback of the exception being handled, on stderr."""
+    import traceback
+
+    traceback.print_exc(file=sys.stderr)
 
 
 if __name__ == "__main__":  # pragma: no cover

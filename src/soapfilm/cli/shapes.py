@@ -42,7 +42,7 @@ def _list(con) -> None:
     from rich.markup import escape
     from rich.table import Table
 
-    from ..readers.shapefile import MESH_KEYS, PART_KEYS, SOLVE_KEYS, TOP_KEYS
+    from ..shapes.file_keys import MESH_KEYS, PART_KEYS, SOLVE_KEYS, TOP_KEYS
     from ..shapes.registry import KINDS
 
     table = Table(title="Section kinds for shape files", header_style="bold")
@@ -75,7 +75,7 @@ def _show(con, name: str) -> None:
     from rich.markup import escape
     from rich.table import Table
 
-    from ..readers.shapefile import SPECIAL_KINDS
+    from ..shapes.file_keys import SPECIAL_KINDS
     from ..shapes.registry import KINDS
 
     if name in SPECIAL_KINDS:
@@ -101,7 +101,7 @@ def _show(con, name: str) -> None:
 
 
 def run(args) -> int:
-    from ..readers.shapefile import SPECIAL_KINDS
+    from ..shapes.file_keys import SPECIAL_KINDS
     from ..shapes.registry import KINDS, suggest
 
     name = args.kind

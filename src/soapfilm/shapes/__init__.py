@@ -16,13 +16,20 @@ the curves of their parts.
 1200.3
 """
 
-from ._geom import DEFAULT_CHORD_REL
-from .basic import box_tube, ellipse, rectangle, regular_polygon, round_bar, tube
-from .compose import difference, placed, union
-from .open_sections import angle, channel, i_section, tee
-from .registry import KINDS, Kind, Param, build
-from .shafts import ParallelKey, flatted_shaft, keyed_shaft, parallel_key
-from .splines import involute_spline, iso14_spline, straight_spline
+import importlib
+
+#: public name -> module of this package that defines it, imported on first use
+#: (PEP 562): ``soapfilm shapes`` lists the registry without numpy or shapely
+_LAZY = {
+    "DEFAULT_CHORD_REL": "_geom",
+    **dict.fromkeys(("box_tube", "ellipse", "rectangle", "regular_polygon", "round_bar", "tube"),
+                    "basic"),
+    **dict.fromkeys(("difference", "placed", "union"), "compose"),
+    **dict.fromkeys(("angle", "channel", "i_section", "tee"), "open_sections"),
+    **dict.fromkeys(("KINDS", "Kind", "Param", "build"), "registry"),
+    **dict.fromkeys(("ParallelKey", "flatted_shaft", "keyed_shaft", "parallel_key"), "shafts"),
+    **dict.fromkeys(("involute_spline", "iso14_spline", "straight_spline"), "splines"),
+}
 
 __all__ = [
     "DEFAULT_CHORD_REL",
@@ -51,3 +58,16 @@ __all__ = [
     "tube",
     "union",
 ]
+
+
+def __getattr__(name: str):
+    module = _LAZY.get(name)
+    if module is None:
+        raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
+    value = getattr(importlib.import_module(f".{module}", __name__), name)
+    globals()[name] = value
+    return value
+
+
+def __dir__():
+    return sorted(set(globals()) | set(__all__))

@@ -2,21 +2,26 @@
 
 Used by the shape-file reader (``.toml``) and by ``soapfilm shapes``.
 :func:`build` checks names and types generically, then calls the generator,
-which checks the combination of dimensions.
+which checks the combination of dimensions.  The generators' modules (numpy,
+shapely) are imported on a kind's first build, so listing the kinds imports
+nothing but the standard library.
 """
 
 from __future__ import annotations
 
 import difflib
+import importlib
 import math
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 from ..errors import InputError
-from ..profile import Profile
-from . import basic, open_sections, shafts, splines
 
-__all__ = ["Param", "Kind", "KINDS", "REQUIRED", "build", "suggest", "kind_named"]
+if TYPE_CHECKING:
+    from ..profile import Profile
+
+__all__ = ["Param", "Kind", "Generator", "KINDS", "REQUIRED", "build", "suggest", "kind_named"]
 
 
 class _Required:
@@ -72,6 +77,29 @@ class Param:
 
 
 @dataclass(frozen=True)
+class Generator:
+    """A generator function of this package named by module and name, imported on first call.
+
+    Attributes
+    ----------
+    module : str
+        Module of :mod:`soapfilm.shapes` (``"shafts"``).
+    name : str
+        The function in it (``"keyed_shaft"``).
+    """
+
+    module: str
+    name: str
+
+    def resolved(self) -> Callable[..., Profile]:
+        """The function itself (imports its module)."""
+        return getattr(importlib.import_module(f".{self.module}", __package__), self.name)
+
+    def __call__(self, *args, **kwargs) -> Profile:
+        return self.resolved()(*args, **kwargs)
+
+
+@dataclass(frozen=True)
 class Kind:
     """A parametric section kind."""
 
@@ -79,7 +107,7 @@ class Kind:
     family: str
     summary: str
     params: tuple[Param, ...]
-    generator: Callable[..., Profile]
+    generator: Callable[..., Profile]  # a Generator: imported when first called
     example: tuple[tuple[str, object], ...]
 
     def param(self, name: str) -> Param | None:
@@ -101,27 +129,27 @@ R = REQUIRED
 
 _KIND_LIST = [
     Kind("round", "round", "solid round bar", (L("diameter", R, "bar diameter"),),
-         basic.round_bar, (("diameter", 40),)),
+         Generator("basic", "round_bar"), (("diameter", 40),)),
     Kind("tube", "round", "round tube (hollow circle)",
          (L("diameter", R, "outside diameter"), L("wall", R, "wall thickness")),
-         basic.tube, (("diameter", 60), ("wall", 5))),
+         Generator("basic", "tube"), (("diameter", 60), ("wall", 5))),
     Kind("ellipse", "round", "solid ellipse",
          (L("width", R, "full axis along x"), L("height", R, "full axis along y")),
-         basic.ellipse, (("width", 40), ("height", 25))),
+         Generator("basic", "ellipse"), (("width", 40), ("height", 25))),
     Kind("rectangle", "polygon", "rectangle, optionally with rounded corners",
          (L("width", R, "size along x"), L("height", R, "size along y"),
           L("corner_radius", 0.0, "radius of the four corners")),
-         basic.rectangle, (("width", 60), ("height", 12))),
+         Generator("basic", "rectangle"), (("width", 60), ("height", 12))),
     Kind("box_tube", "polygon", "rectangular hollow section (welded or rolled box)",
          (L("width", R, "outside size along x"), L("height", R, "outside size along y"),
           L("wall", R, "wall thickness"), L("outer_radius", 0.0, "outside corner radius"),
           L("inner_radius", None, "inside corner radius", "outer_radius - wall, at least 0")),
-         basic.box_tube, (("width", 80), ("height", 60), ("wall", 5))),
+         Generator("basic", "box_tube"), (("width", 80), ("height", 60), ("wall", 5))),
     Kind("polygon", "polygon", "regular polygon by size across flats (square, hex, octagon)",
          (N("sides", R, "number of sides (4 square, 6 hex, 8 octagon)"),
           L("across_flats", R, "size across flats"),
           L("corner_radius", 0.0, "radius of every corner")),
-         basic.regular_polygon, (("sides", 6), ("across_flats", 19))),
+         Generator("basic", "regular_polygon"), (("sides", 6), ("across_flats", 19))),
     Kind("keyed_shaft", "shaft", "round shaft with parallel keyways, equally spaced",
          (L("diameter", R, "shaft diameter"),
           N("keyways", 1, "number of keyways (2 at 180 deg, 3 at 120 deg ...)"),
@@ -130,13 +158,13 @@ _KIND_LIST = [
             "DIN 6885-1 table (mm)"),
           L("floor_radius", None, "radius of the keyway floor corners (0 = sharp)",
             "table r min, or 0 with your own key size")),
-         shafts.keyed_shaft, (("diameter", 40),)),
+         Generator("shafts", "keyed_shaft"), (("diameter", 40),)),
     Kind("flatted_shaft", "shaft", "round shaft with one flat (D) or two parallel flats",
          (L("diameter", R, "shaft diameter"), N("flats", 1, "1 (D shaft) or 2 (double-D)"),
           L("flat_depth", None, "cut depth below the round, on the centreline",
             "give this or across_flats"),
           L("across_flats", None, "size over the flat(s)", "give this or flat_depth")),
-         shafts.flatted_shaft, (("diameter", 20), ("flat_depth", 1.5))),
+         Generator("shafts", "flatted_shaft"), (("diameter", 20), ("flat_depth", 1.5))),
     Kind("straight_spline", "spline", "shaft with straight-sided splines (ISO 14 sizes)",
          (N("splines", None, "number of splines N", "ISO 14 with series"),
           L("minor_diameter", R, "minor (root) diameter d"),
@@ -145,7 +173,7 @@ _KIND_LIST = [
           L("root_fillet", 0.0, "radius between flank and minor circle"),
           Param("series", "choice", None, "ISO 14 series to look up N, D, B from d",
                 "none: give N, D, B", ("light", "medium"))),
-         splines.straight_spline, (("series", "light"), ("minor_diameter", 32))),
+         Generator("splines", "straight_spline"), (("series", "light"), ("minor_diameter", 32))),
     Kind("involute_spline", "spline",
          "shaft with involute spline teeth (ISO 4156-1 basic profile)",
          (L("module", R, "module m"), N("teeth", R, "number of teeth z"),
@@ -156,28 +184,28 @@ _KIND_LIST = [
           L("root_fillet", None, "root fillet radius", "0.2m, 0.4m, 0.3m, 0.25m"),
           Param("root", "choice", "flat", "root form at 30 deg (37.5 and 45 are fillet)",
                 choices=("flat", "fillet"))),
-         splines.involute_spline, (("module", 1.25), ("teeth", 18))),
+         Generator("splines", "involute_spline"), (("module", 1.25), ("teeth", 18))),
     Kind("i_section", "open", "I (H) section with root fillets",
          (L("depth", R, "overall depth"), L("flange_width", R, "flange width"),
           L("web_thickness", R, "web thickness"), L("flange_thickness", R, "flange thickness"),
           L("root_radius", 0.0, "web-to-flange fillet radius")),
-         open_sections.i_section, (("depth", 200), ("flange_width", 100),
+         Generator("open_sections", "i_section"), (("depth", 200), ("flange_width", 100),
                                    ("web_thickness", 5.6), ("flange_thickness", 8.5))),
     Kind("channel", "open", "channel (C, U) section with parallel flanges",
          (L("depth", R, "overall depth"), L("flange_width", R, "flange width incl. web"),
           L("web_thickness", R, "web thickness"), L("flange_thickness", R, "flange thickness"),
           L("root_radius", 0.0, "web-to-flange fillet radius")),
-         open_sections.channel, (("depth", 100), ("flange_width", 50),
+         Generator("open_sections", "channel"), (("depth", 100), ("flange_width", 50),
                                  ("web_thickness", 6), ("flange_thickness", 8.5))),
     Kind("angle", "open", "angle (L) section of uniform thickness",
          (L("leg_a", R, "leg along y"), L("leg_b", R, "leg along x"),
           L("thickness", R, "leg thickness"), L("root_radius", 0.0, "heel fillet radius")),
-         open_sections.angle, (("leg_a", 50), ("leg_b", 50), ("thickness", 5))),
+         Generator("open_sections", "angle"), (("leg_a", 50), ("leg_b", 50), ("thickness", 5))),
     Kind("tee", "open", "tee section",
          (L("depth", R, "overall depth incl. flange"), L("flange_width", R, "flange width"),
           L("stem_thickness", R, "stem thickness"), L("flange_thickness", R, "flange thickness"),
           L("root_radius", 0.0, "stem-to-flange fillet radius")),
-         open_sections.tee, (("depth", 60), ("flange_width", 60),
+         Generator("open_sections", "tee"), (("depth", 60), ("flange_width", 60),
                              ("stem_thickness", 7), ("flange_thickness", 7))),
 ]
 
