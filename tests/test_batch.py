@@ -302,3 +302,82 @@ def test_progress_reports_every_job_and_options_are_checked(rect_file):
         run_batch([("a", rect_file, {"mesh": 0.2})])
     with pytest.raises(InputError, match="unknown executor"):
         run_batch([("a", rect_file, {})], executor="threads")
+
+
+# --- warnings raised inside a job ----------------------------------------------------------
+def _damaged_dxf(path):
+    """A 20 x 10 mm rectangle and a text whose column data is damaged (an END mark
+    without its BEGIN): ezdxf logs an ERROR record while loading, which a single
+    `solve` prints as one notice line."""
+    import ezdxf
+
+    doc = ezdxf.new("R2018")
+    doc.units = 4  # mm
+    doc.modelspace().add_lwpolyline([(0, 0), (20, 0), (20, 10), (0, 10)], close=True)
+    note = doc.modelspace().add_mtext("shaft section")
+    doc.appids.add("ACAD")
+    note.set_xdata("ACAD", [(1000, "ACAD_MTEXT_COLUMN_INFO_END")])
+    doc.saveas(path)
+    return path
+
+
+def test_worker_log_records_become_the_single_run_notice(tmp_path, capsys):
+    """A library's ERROR record raised while a worker reads its section: the parent
+    prints the notice a single `solve` prints, prefixed with the row's label, the same
+    for --jobs 1 and 2 (before: raw lines from the worker processes with --jobs 2)."""
+    import subprocess
+
+    dxf = str(_damaged_dxf(tmp_path / "damaged.dxf"))
+    rect = tmp_path / "bar.toml"
+    rect.write_text(RECT.replace("width = 1", "width = 20").replace("height = 1", "height = 10"))
+    assert main(["solve", dxf, "--quiet", "--json", str(tmp_path / "one.json")]) == 0
+    single = capsys.readouterr().err.splitlines()
+    assert len(single) == 1 and single[0].startswith("soapfilm: warning: ezdxf: Invalid ACAD_MTEXT")
+    notice = single[0].removeprefix("soapfilm: warning: ")
+    outs = {}
+    for jobs in ("1", "2"):  # a fresh process: its workers' own stderr is the command's
+        out = tmp_path / f"rows{jobs}.json"
+        done = subprocess.run([sys.executable, "-m", "soapfilm", "batch", dxf, str(rect),
+                               "--quiet", "--jobs", jobs, "--json", str(out)],
+                              capture_output=True, text=True, timeout=300)
+        assert done.returncode == 0, done.stderr
+        assert done.stderr.splitlines() == [f"soapfilm: warning: {dxf}: {notice}"]
+        outs[jobs] = json.loads(out.read_text())["rows"]
+    for row1, row2 in zip(outs["1"], outs["2"], strict=True):
+        assert {k: v for k, v in row1.items() if k != "seconds"} == \
+            {k: v for k, v in row2.items() if k != "seconds"}
+    # both rows are the 20 x 10 rectangle (Timoshenko & Goodier 3rd ed., sec. 109)
+    j, _ = rectangle_series(20.0, 10.0)
+    for row in outs["2"]:
+        assert row["J_lo"] <= j * (1 + 1e-9) and row["J_hi"] >= j * (1 - 1e-9)
+
+
+def test_each_job_captures_its_numpy_warnings(monkeypatch, rect_file, caplog, capsys):
+    """The capture each job runs under (in a worker or here): a numpy floating-point
+    warning becomes the "numerical trouble" text, once per job even when the same line
+    warns in every job of one process, logged by the caller in input order; nothing
+    reaches stderr raw.  The rows are the unit square's (Timoshenko & Goodier sec. 109)."""
+    import logging
+    import warnings
+
+    import soapfilm.solve as solve_module
+
+    real = solve_module.analyse
+
+    def noisy(profile, **kw):
+        with np.errstate(over="warn"):
+            np.float64(1e308) * np.float64(10.0)  # numpy: "overflow encountered ..."
+        return real(profile, **kw)
+
+    monkeypatch.setattr(solve_module, "analyse", noisy)
+    jobs = [("first", rect_file, {"mesh_size": 0.1}), ("second", rect_file, {"mesh_size": 0.1})]
+    with caplog.at_level(logging.WARNING, logger="soapfilm.batch"), warnings.catch_warnings():
+        warnings.simplefilter("default")  # as in a user's shell, whatever pytest's filters
+        rows = run_batch(jobs, executor="serial")
+    texts = [r.getMessage() for r in caplog.records if r.name == "soapfilm.batch"]
+    assert [t.split(": ")[0] for t in texts] == ["first", "second"], texts
+    assert all("numerical trouble: overflow encountered" in t for t in texts), texts
+    assert capsys.readouterr().err == ""
+    j, _ = rectangle_series(1.0, 1.0)
+    for row in rows:
+        assert row["J_lo"] <= j * (1 + 1e-9) and row["J_hi"] >= j * (1 - 1e-9)

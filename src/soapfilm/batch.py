@@ -37,6 +37,7 @@ import concurrent.futures as cf
 import contextlib
 import copy
 import csv
+import functools
 import io
 import itertools
 import logging
@@ -271,48 +272,77 @@ def _worker_environment():
             os.environ.pop(k, None)
 
 
+#: what a job imports (reading every kind of section, the adaptive solve), loaded
+#: once in the fork server so that every worker starts with it: a worker importing
+#: them itself spent 0.4-0.5 s of CPU on its first job (numpy and scipy's sparse
+#: stack are in via soapfilm.solve; soapfilm.adapt brings scipy.spatial, the
+#: quadratic elements scipy.special)
+_WORKER_MODULES = (
+    "soapfilm.batch", "soapfilm.solve", "soapfilm.adapt", "soapfilm.intake", "soapfilm.notices",
+    "soapfilm.opened", "soapfilm.quiet", "soapfilm.resources", "soapfilm.fem.p1",
+    "soapfilm.fem.p2", "soapfilm.readers", "soapfilm.shapes.basic", "soapfilm.shapes.shafts",
+    "soapfilm.shapes.splines", "soapfilm.shapes.open_sections", "soapfilm.shapes.compose",
+    "scipy.spatial", "scipy.special", "threadpoolctl", "tomllib",
+)
+
+
 def _pool_context():
-    # a fresh server process forks the workers: no threads of the caller are copied
+    # a fresh server process forks the workers: no threads of the caller are copied;
+    # it imports what the jobs need first (a module that fails to import is skipped)
     methods = multiprocessing.get_all_start_methods()
     if "forkserver" in methods:
         ctx = multiprocessing.get_context("forkserver")
-        ctx.set_forkserver_preload(["soapfilm.batch", "soapfilm.solve"])
+        ctx.set_forkserver_preload(list(_WORKER_MODULES))
         return ctx
     return multiprocessing.get_context("spawn")
 
 
-def _task(files_read: set | None) -> tuple[Callable, Callable]:
-    """What a job runs, and how its result becomes a row (noting the files it read)."""
-    if files_read is None:
-        return run_job, lambda result: result
-
-    def take(result) -> dict:
-        row, read = result
-        files_read.update(read)
-        return row
-    return run_job_noting_reads, take
+#: what one job gives back to the caller of a batch: the row, the files it read
+#: (absolute paths; empty unless asked for) and the notice texts of its warnings
+Outcome = tuple[dict, list[str], list[str]]
 
 
-def _collect(futures: list, jobs: list[Job], wait: Callable, progress: Progress | None,
-             take: Callable = lambda result: result) -> list[dict]:
-    """Rows in input order; a future that raises (worker died) gives an error row."""
+def _work(job: Job, note_reads: bool = False, notices: bool = True) -> Outcome:
+    """Run one job in whatever process: its row, the files it read, its notice texts.
+
+    With ``notices`` the job's Python warnings and log records are captured
+    as the command line's one-line notice texts (:func:`soapfilm.notices.captured`)
+    instead of reaching this process's stderr raw, so that the caller can
+    report them the way a single run does, wherever the job ran.
+    """
+    from .notices import captured
+    from .opened import files_opened
+
+    with contextlib.ExitStack() as stack:
+        seen = stack.enter_context(files_opened()) if note_reads else set()
+        texts = stack.enter_context(captured()) if notices else []
+        row = run_job(job)
+    return row, sorted(seen), list(texts)
+
+
+def _failed(job: Job, exc: BaseException) -> Outcome:
+    return _error_row(job, exc), [], []
+
+
+def _collect(futures: list, jobs: list[Job], wait: Callable, progress: Progress | None
+             ) -> list[Outcome]:
+    """Outcomes in input order; a future that raises (worker died) gives an error row."""
+    outcomes: list[Outcome | None] = [None] * len(jobs)
+
+    def outcome(i: int) -> Outcome:
+        try:
+            return futures[i].result()
+        except Exception as exc:  # noqa: BLE001 - e.g. a worker process killed
+            log.debug("job %r: %s", jobs[i].label, _message(exc))
+            return _failed(jobs[i], exc)
+
     if progress is not None:
         index = {id(f): i for i, f in enumerate(futures)}
         for done, f in enumerate(wait(futures), start=1):
             i = index[id(f)]
-            try:
-                row = take(f.result())  # noting the reads twice changes nothing
-            except Exception as exc:  # noqa: BLE001
-                row = _error_row(jobs[i], exc)
-            progress(done, len(jobs), row)
-    rows = []
-    for job, f in zip(jobs, futures, strict=True):
-        try:
-            rows.append(take(f.result()))
-        except Exception as exc:  # noqa: BLE001 - e.g. a worker process killed
-            log.debug("job %r: %s", job.label, _message(exc))
-            rows.append(_error_row(job, exc))
-    return rows
+            outcomes[i] = outcome(i)
+            progress(done, len(jobs), outcomes[i][0])
+    return [o if o is not None else outcome(i) for i, o in enumerate(outcomes)]
 
 
 def run_batch(
@@ -322,6 +352,7 @@ def run_batch(
     scheduler=None,
     progress: Progress | None = None,
     files_read: set | None = None,
+    notices: bool = True,
 ) -> list[dict]:
     """Run many analyses and return one row per job, in input order.
 
@@ -347,6 +378,14 @@ def run_batch(
         Filled with the absolute paths of the files the jobs opened for
         reading, in whatever process they ran (a shape file's drawing, say),
         so that the caller can refuse to write over any of them.
+    notices : bool
+        Capture each job's Python warnings (numpy's floating-point warnings)
+        and log records in the process that runs it, as the one-line texts
+        of the command line's notices (:mod:`soapfilm.notices`), and log them
+        here once the batch is done, in input order, as WARNING records of
+        ``soapfilm.batch``: ``LABEL: TEXT``.  ``soapfilm batch`` prints them
+        as ``soapfilm: warning:`` lines whatever ``--jobs`` is.  False lets
+        them through as they come (``--debug``).
 
     Returns
     -------
@@ -363,12 +402,26 @@ def run_batch(
     jobs = [_as_job(j) for j in jobs]
     if not jobs:
         return []
-    task, take = _task(files_read)
+    task = functools.partial(_work, note_reads=files_read is not None, notices=notices)
+    outcomes = _outcomes(jobs, task, workers, executor, scheduler, progress)
+    rows = []
+    for job, (row, read, texts) in zip(jobs, outcomes, strict=True):
+        if files_read is not None:
+            files_read.update(read)
+        for text in texts:
+            log.warning("%s: %s", job.label, text)
+        rows.append(row)
+    return rows
+
+
+def _outcomes(jobs: list[Job], task: Callable, workers: int | None, executor, scheduler,
+              progress: Progress | None) -> list[Outcome]:
+    """Run the jobs where asked (see :func:`run_batch`); outcomes in input order."""
     if executor == "dask":
-        return _run_dask(jobs, workers, scheduler, progress, task, take)
+        return _run_dask(jobs, workers, scheduler, progress, task)
     if isinstance(executor, cf.Executor):
         futures = [executor.submit(task, j) for j in jobs]
-        return _collect(futures, jobs, cf.as_completed, progress, take)
+        return _collect(futures, jobs, cf.as_completed, progress)
     if executor not in ("process", "serial"):
         raise InputError(f"unknown executor {executor!r}", fix="use 'process', 'serial' or 'dask'")
     n = (os.cpu_count() or 1) if workers is None else int(workers)
@@ -376,21 +429,22 @@ def run_batch(
         raise InputError(f"the number of workers must be at least 1, got {n}", where="--jobs")
     n = min(n, _parallel_within_memory(jobs))
     if executor == "serial" or n == 1 or len(jobs) == 1:
-        rows = []
+        outcomes = []
         for done, job in enumerate(jobs, start=1):
-            rows.append(take(task(job)))
+            outcomes.append(task(job))
             if progress is not None:
-                progress(done, len(jobs), rows[-1])
-        return rows
-    rows = _in_pool(jobs, min(n, len(jobs)), progress, task, take)
+                progress(done, len(jobs), outcomes[-1][0])
+        return outcomes
+    outcomes = _in_pool(jobs, min(n, len(jobs)), progress, task)
     # a worker that died (killed for memory, a crash in native code) breaks the whole
     # pool: run the jobs it took down again, each alone, so only the culprit fails
-    lost = [i for i, r in enumerate(rows) if r.get("error", "") and r["error"].startswith(_DIED)]
+    lost = [i for i, (row, _, _) in enumerate(outcomes)
+            if row.get("error", "") and row["error"].startswith(_DIED)]
     if lost:
         log.warning("a worker process died; running %d job(s) again one by one", len(lost))
     for i in lost:
-        rows[i] = _in_pool([jobs[i]], 1, None, task, take)[0]
-    return rows
+        outcomes[i] = _in_pool([jobs[i]], 1, None, task)[0]
+    return outcomes
 
 
 def _parallel_within_memory(jobs: list[Job]) -> int:
@@ -413,13 +467,13 @@ def _parallel_within_memory(jobs: list[Job]) -> int:
 _DIED = "worker process died"
 
 
-def _in_pool(jobs: list[Job], n: int, progress: Progress | None, task: Callable = run_job,
-             take: Callable = lambda result: result) -> list[dict]:
+def _in_pool(jobs: list[Job], n: int, progress: Progress | None, task: Callable = _work
+             ) -> list[Outcome]:
     pool = cf.ProcessPoolExecutor(max_workers=n, mp_context=_pool_context())
     try:
         with _worker_environment():  # the workers (and the fork server) start here
             futures = [pool.submit(task, j) for j in jobs]
-        return _collect(futures, jobs, cf.as_completed, progress, take)
+        return _collect(futures, jobs, cf.as_completed, progress)
     except BaseException as exc:  # e.g. Ctrl-C: drop the jobs not yet started
         if not isinstance(exc, Exception):  # stopped (Ctrl-C, SIGTERM): the running ones too
             _stop_workers(pool)
@@ -444,7 +498,7 @@ _ADDRESS = re.compile(r"^[a-z][a-z0-9+.-]*://\S+$")
 
 
 def _run_dask(jobs: list[Job], workers: int | None, scheduler, progress,
-              task: Callable = run_job, take: Callable = lambda result: result) -> list[dict]:
+              task: Callable = _work) -> list[Outcome]:
     try:
         from dask.distributed import Client, LocalCluster, as_completed
     except ImportError:
@@ -471,7 +525,7 @@ def _run_dask(jobs: list[Job], workers: int | None, scheduler, progress,
                          fix="give e.g. tcp://10.0.0.5:8786, or 'local'")
     try:
         futures = client.map(task, jobs, pure=False)
-        return _collect(futures, jobs, as_completed, progress, take)
+        return _collect(futures, jobs, as_completed, progress)
     finally:
         for obj in owned:
             obj.close()

@@ -20,6 +20,7 @@ import sys
 import warnings
 
 from ..errors import EXIT_CHECK_FAILED, EXIT_ROWS_FAILED, SoapfilmError, one_line
+from ..notices import record_text, warning_text
 
 __all__ = ["main", "SUBCOMMANDS"]
 
@@ -69,32 +70,28 @@ def build_parser(only: str | None = None) -> argparse.ArgumentParser:
 
 #: most notices one run prints (each distinct warning once)
 _MAX_NOTICES = 10
-#: warnings meant for developers, not for the user of the command: dropped
-_DEVELOPER_WARNINGS = (DeprecationWarning, PendingDeprecationWarning, FutureWarning,
-                       ImportWarning, ResourceWarning)
 
 
 class _Notices:
-    """One-line notices gathered from warnings and log records during a run."""
+    """One-line notices gathered from warnings and log records during a run.
+
+    What becomes a notice, and its text, is :mod:`soapfilm.notices`' rule
+    (shared with the batch workers, which capture the same texts).
+    """
 
     def __init__(self):
         self.lines: list[str] = []
 
-    def add(self, text: str) -> None:
+    def add(self, text: str | None) -> None:
+        if not text:
+            return
         line = f"soapfilm: warning: {one_line(text)}"
         if line not in self.lines and len(self.lines) < _MAX_NOTICES:
             self.lines.append(line)
 
     def showwarning(self, message, category, filename, lineno, file=None, line=None):
         """Replacement of :func:`warnings.showwarning` for the run."""
-        if issubclass(category, _DEVELOPER_WARNINGS):
-            return
-        text = str(message).strip().splitlines()[0] if str(message).strip() else category.__name__
-        if issubclass(category, RuntimeWarning):  # numpy's floating-point warnings, mostly
-            self.add(f"numerical trouble: {text} (check the results and the input's sizes; "
-                     "--debug shows where)")
-        else:
-            self.add(text)
+        self.add(warning_text(message, category))
 
 
 class _NoticeHandler(logging.Handler):
@@ -105,15 +102,7 @@ class _NoticeHandler(logging.Handler):
         self.notices = notices
 
     def emit(self, record: logging.LogRecord) -> None:
-        ours = record.name == "soapfilm" or record.name.startswith("soapfilm.")
-        if record.levelno < (logging.WARNING if ours else logging.ERROR):
-            return
-        try:
-            text = record.getMessage().strip()
-        except Exception:  # a library's badly formatted record: not worth a line
-            return
-        text = text.splitlines()[0] if text else record.levelname
-        self.notices.add(text if ours else f"{record.name.split('.')[0]}: {text}")
+        self.notices.add(record_text(record))
 
 
 @contextlib.contextmanager

@@ -80,7 +80,9 @@ def execute(args, jobs) -> list[dict]:
     from ..batch import run_batch
 
     # what the jobs read (a shape file's drawing, in a worker process) counts as read
-    run = {"workers": args.jobs, "files_read": run_outputs().reads}
+    # a job's warnings and log records come back with its row and are printed as in a
+    # single run (one-line notices, LABEL: TEXT); --debug lets them through raw
+    run = {"workers": args.jobs, "files_read": run_outputs().reads, "notices": not args.debug}
     if args.scheduler is not None:
         run.update(executor="dask", scheduler=args.scheduler)
         if not args.debug:  # Dask's own INFO chatter is not for this terminal
