@@ -70,6 +70,7 @@ from ..geometry.curves import Circle, Curve, Ellipse, Involute, Moved, edge_para
 from ..mesh import Mesh
 from . import p1
 from .linsolve import fixed_random_state, one_blas_thread, solve_spd
+from .outline import UNIT_ROUNDOFF, Functional
 from .torsion import stress_function_system
 
 __all__ = [
@@ -127,8 +128,9 @@ QUAD_WEIGHTS = np.array([27, 8, 8, 8, 3, 3, 3], dtype=float) / 60.0
 CURVED_RULE_N = 4
 
 #: Points per direction of the collapsed rule for the certified energy
-#: bounds on curved elements (degree 13; the integrands there reach 12).
-CERTIFIED_RULE_N = 7
+#: bounds on curved elements (degree 17; the integrands there reach 16:
+#: ``|det grad w - det (y, -x)|^2`` of degree 8 times ``eps^4`` of degree 8).
+CERTIFIED_RULE_N = 9
 
 #: Local corner pairs of the mid-nodes 3, 4, 5.
 _EDGES = np.array([[0, 1], [1, 2], [2, 0]])
@@ -570,6 +572,7 @@ class P2Fields:
     j_hi_mesh: float = float("nan")
     bounds_scope: str = "polygon"
     outline: str = ""
+    bounds_rounding: float = 0.0  # how far j_lo and j_hi were widened for rounding, together
 
 
 def solve_torsion_p2(mesh: Mesh, method: str = "auto", nodes: P2Nodes | None = None,
@@ -666,8 +669,6 @@ def solve_torsion_p2(mesh: Mesh, method: str = "auto", nodes: P2Nodes | None = N
     phi = prolong @ x
     hole_values = x[nfree:].copy()
     # the functional for any approximate phi (see fem.torsion): 2 l(phi) - a(phi, phi)
-    j_lo = 2.0 * float(b_red @ x) - float(x @ (k_red @ x))
-
     # ---- warping function, then mean zero.  Direct: corner node 0 pinned.
     # AMG: the singular Neumann system with the load projected on the range
     # (sum f = 0 up to rounding), which CG handles; pinning one node slows
@@ -678,9 +679,13 @@ def solve_torsion_p2(mesh: Mesh, method: str = "auto", nodes: P2Nodes | None = N
         w = np.zeros(n)
         w[1:] = solve_spd(k[1:, 1:], f[1:], method="direct")
     w -= (mvec @ w) / total
-    # the functional for any approximate w (see fem.torsion): Ip - 2 f.w + a(w, w)
-    j_hi = ip - 2.0 * float(f @ w) + float(w @ (k @ w))
-
+    # both functionals hold for ANY admissible field (see fem.torsion), so the bounds
+    # survive an inexact solve; summed element by element without cancellation
+    # (_shares), each with a bound on its rounding
+    shares = _all_shares(p, t6, nodes.curved, phi, w)
+    hterm, herr, _ = _hole_term(mesh, nodes, p, hole_values)
+    lower, upper = _functionals(*shares, hterm, herr)
+    j_lo, j_hi = lower.value, upper.value
     eta2 = element_indicators(p, t6, area, lgrad, phi, w, curved=cu)
     fields = P2Fields(
         origin=origin,
@@ -691,8 +696,9 @@ def solve_torsion_p2(mesh: Mesh, method: str = "auto", nodes: P2Nodes | None = N
         hole_values=hole_values,
         area=total,
         polar_moment=ip,
-        j_lo=j_lo,
-        j_hi=j_hi,
+        j_lo=lower.lower,
+        j_hi=upper.upper,
+        bounds_rounding=lower.rounding + upper.rounding,
         indicators=eta2,
         elem_area=elem_area,
         elem_grad=lgrad,
@@ -703,11 +709,11 @@ def solve_torsion_p2(mesh: Mesh, method: str = "auto", nodes: P2Nodes | None = N
     if not np.any(mesh.segment_curves >= 0):
         log.debug("P2: %d nodes, J in [%.10g, %.10g]", n, j_lo, j_hi)
         return fields
-    lo, hi, slack, scope, how = _drawn_bounds(mesh, fields, outline)
+    lo, hi, slack, scope, how, rnd = _drawn_bounds(mesh, fields, outline, shares)
     log.debug("P2: %d nodes, J in [%.10g, %.10g] (%s, %s), isoparametric [%.10g, %.10g]",
               n, lo, hi, scope, how, j_lo, j_hi)
     return dataclasses.replace(fields, j_lo=lo, j_hi=hi, indicators=eta2 + slack,
-                               bounds_scope=scope, outline=how)
+                               bounds_scope=scope, outline=how, bounds_rounding=rnd)
 
 
 def _solve_amg(a, a_pre, b, rtol: float = 1e-9) -> np.ndarray:
@@ -773,56 +779,184 @@ def _shares(p, t6, curved: np.ndarray, elems, phi, omega, certify: bool):
     """Per-element shares of the two functionals on the elements ``elems``.
 
     ``L_e = 4 int_e phi - int_e |grad phi|^2`` and ``E_e = int_e |grad omega
-    - (y, -x)|^2`` (``p`` centred).  Affine elements: exact (every integrand
-    has degree <= 2).  Curved elements: with ``certify``, ``L_e`` from below
-    and ``E_e`` from above (:func:`_energy_upper`: only the energies are
-    rational, the rest is integrated exactly); else with the curved rule.
+    - (y, -x)|^2`` (``p`` centred).  Returns ``(lo, hi, lo_err, hi_err)``: the
+    shares and first-order bounds of their rounding (:func:`_functionals`).
+
+    ``E_e`` is a positive-weight quadrature of the squared difference itself,
+    never ``int |grad w|^2 - 2 int grad w . (y, -x) + int r^2`` (which cancels
+    terms of size Ip down to J), and gradients come from nodal differences
+    (``sum_k grad N_k = 0``), so a field far from zero loses nothing.  Affine
+    elements: exact (every integrand has degree <= 2).  Curved elements,
+    coordinates taken relative to the element's first corner: with
+    ``certify``, ``L_e`` from below and ``E_e`` from above
+    (:func:`_energy_upper` on ``|det grad - det (y, -x)|^2 / det``, whose
+    numerator is a polynomial of degree 8: rule of degree 17); else with the
+    curved rule (the discrete problem's own integration).
     """
+    u = UNIT_ROUNDOFF
     elems = np.asarray(elems)
     lo = np.zeros(len(elems))
     hi = np.zeros(len(elems))
+    lo_err = np.zeros(len(elems))
+    hi_err = np.zeros(len(elems))
     cmask = curved[elems]
     s = np.flatnonzero(~cmask)
     if len(s):
         te = t6[:, elems[s]]
+        x, y = p[0, te[:3]], p[1, te[:3]]
+        dx1, dy1, dx2, dy2 = x[1] - x[0], y[1] - y[0], x[2] - x[0], y[2] - y[0]
+        s1, s2 = dx1 * dy2, dx2 * dy1
+        with np.errstate(divide="ignore", invalid="ignore"):
+            rel = 4.0 * u * (np.abs(s1) + np.abs(s2)) / np.abs(s1 - s2) + 10.0 * u
         area, lgrad = p1.geometry(p, te[:3])
-        gp = _gradient_at(te, lgrad, phi, QUAD_BARY)
-        gw = _gradient_at(te, lgrad, omega, QUAD_BARY)
-        x, y = _points(p, te, QUAD_BARY)
-        lo[s] = 4.0 * area / 3.0 * phi[te[3:]].sum(axis=0) \
-            - (QUAD_WEIGHTS @ (gp[0] ** 2 + gp[1] ** 2)) * area
-        hi[s] = (QUAD_WEIGHTS @ ((gw[0] - y) ** 2 + (gw[1] + x) ** 2)) * area
+        dn = _dn_dlam(QUAD_BARY)  # (6, 3, q)
+        bg = np.einsum("ijq,cje->ciqe", dn, lgrad)  # (2, 6, q, M)
+        bga = np.einsum("ijq,cje->ciqe", np.abs(dn), np.abs(lgrad))
+
+        def grad_err(v):
+            dv = v[te] - v[te[0]]  # sum_k grad N_k = 0: differences from corner 0
+            g = np.einsum("ciqe,ie->cqe", bg, dv)
+            e = rel[None, None] * np.einsum("ciqe,ie->cqe", bga, np.abs(dv))
+            return g, e
+
+        gp, ep = grad_err(phi)
+        gw, ew = grad_err(omega)
+        xq, yq = _points(p, te, QUAD_BARY)
+        exq = 3.0 * u * (QUAD_BARY @ np.abs(x))
+        eyq = 3.0 * u * (QUAD_BARY @ np.abs(y))
+        aa = np.abs(area)
+        load = 4.0 * area / 3.0 * phi[te[3:]].sum(axis=0)
+        energy = (QUAD_WEIGHTS @ (gp[0] ** 2 + gp[1] ** 2)) * area
+        lo[s] = load - energy
+        lo_err[s] = (rel * (np.abs(load) + energy + np.abs(lo[s]))
+                     + aa * (QUAD_WEIGHTS @ (2.0 * np.abs(gp) * ep + ep * ep).sum(axis=0)))
+        d0 = gw[0] - yq
+        d1 = gw[1] + xq
+        e0 = ew[0] + eyq + u * (np.abs(gw[0]) + np.abs(yq))
+        e1 = ew[1] + exq + u * (np.abs(gw[1]) + np.abs(xq))
+        hi[s] = (QUAD_WEIGHTS @ (d0 * d0 + d1 * d1)) * area
+        hi_err[s] = (rel * hi[s]
+                     + aa * (QUAD_WEIGHTS @ (2.0 * np.abs(d0) * e0 + e0 * e0
+                                             + 2.0 * np.abs(d1) * e1 + e1 * e1)))
     c = np.flatnonzero(cmask)
     if len(c):
         idx = elems[c]
         te = t6[:, idx]
-        if certify:
-            bary, w = collapsed_rule(CERTIFIED_RULE_N)
-        else:
-            bary, w = collapsed_rule(CURVED_RULE_N)
+        bary, w = collapsed_rule(CERTIFIED_RULE_N if certify else CURVED_RULE_N)
         xe = p[:, te]
-        pts, det, cg = _iso_map(xe, bary)
-        wdet = 0.5 * w[:, None] * det
+        x0 = xe[:, :1, :]
+        xr = xe - x0  # relative to corner 0: the Jacobian loses nothing to the position
+        pts, det, cg = _iso_map(xr, bary)
+        pts = pts + x0
+        wh = 0.5 * w
+        wdet = wh[:, None] * det
         nv = basis_values(bary)
+        # a bound on the relative rounding of det and of the cofactors: the corner
+        # triangle's (as for affine elements) times the ratio of the straight to the
+        # curved area's smallest Jacobian, plus the products' own
+        # (entries of the Jacobian are at most 8 max|x - x_0|: sums of reference
+        # gradients, each at most 3 in size)
+        span = np.abs(xr).max(axis=(0, 1))
+        dmin = _jacobian_lower_bound(xr)
+        rel = 4.0 * u * 128.0 * span * span / np.abs(dmin) + 10.0 * u
         int_phi = np.einsum("kq,ke,qe->e", nv, phi[te], wdet)
-        gp = np.einsum("ckqe,ke->cqe", cg, phi[te])  # det * grad phi
-        gw = np.einsum("ckqe,ke->cqe", cg, omega[te])
+        int_phi_abs = np.einsum("kq,ke,qe->e", np.abs(nv), np.abs(phi[te]), np.abs(wdet))
+
+        def dgrad(v):
+            dv = v[te] - v[te[0]]
+            g = np.einsum("ckqe,ke->cqe", cg, dv)  # det * grad v
+            e = rel[None, None] * np.einsum("ckqe,ke->cqe", np.abs(cg), np.abs(dv))
+            return g, e
+
+        gp, ep = dgrad(phi)
+        gw, ew = dgrad(omega)
         x, y = pts
-        cross = np.einsum("q,qe->e", 0.5 * w, gw[0] * y - gw[1] * x)  # int grad w . (y, -x)
-        r2 = np.einsum("qe,qe->e", x * x + y * y, wdet)
+        d0 = gw[0] - y * det
+        d1 = gw[1] + x * det
+        e0 = ew[0] + rel * np.abs(y * det)
+        e1 = ew[1] + rel * np.abs(x * det)
+        num_p = gp[0] ** 2 + gp[1] ** 2
+        num_w = d0 * d0 + d1 * d1
+        enum_p = 2.0 * np.abs(gp[0]) * ep[0] + ep[0] ** 2 + 2.0 * np.abs(gp[1]) * ep[1] + ep[1] ** 2
+        enum_w = 2.0 * np.abs(d0) * e0 + e0 * e0 + 2.0 * np.abs(d1) * e1 + e1 * e1
         if certify:
-            dmin = _jacobian_lower_bound(xe)
-            e_phi = _energy_upper(gp[0] ** 2 + gp[1] ** 2, det, w, dmin)
-            e_w = _energy_upper(gw[0] ** 2 + gw[1] ** 2, det, w, dmin)
+            e_phi, fac = _energy_upper(num_p, det, w, dmin, factor=True)
+            e_w = _energy_upper(num_w, det, w, dmin)
         else:
-            e_phi = np.einsum("q,qe->e", 0.5 * w, (gp[0] ** 2 + gp[1] ** 2) / det)
-            e_w = np.einsum("q,qe->e", 0.5 * w, (gw[0] ** 2 + gw[1] ** 2) / det)
+            fac = 1.0 / det
+            e_phi = np.einsum("q,qe->e", wh, num_p * fac)
+            e_w = np.einsum("q,qe->e", wh, num_w * fac)
+        afac = np.abs(fac)
         lo[c] = 4.0 * int_phi - e_phi
-        hi[c] = e_w - 2.0 * cross + r2
-    return lo, hi
+        hi[c] = e_w
+        lo_err[c] = (rel * (4.0 * int_phi_abs + np.einsum("q,qe->e", wh, num_p * afac))
+                     + np.einsum("q,qe->e", wh, enum_p * afac))
+        hi_err[c] = (rel * np.einsum("q,qe->e", wh, num_w * afac)
+                     + np.einsum("q,qe->e", wh, enum_w * afac))
+    return lo, hi, lo_err, hi_err
 
 
-def _energy_upper(num: np.ndarray, det: np.ndarray, w: np.ndarray, dmin: np.ndarray) -> np.ndarray:
+def _functionals(shares_lo, shares_hi, err_lo, err_hi, hole_term: float, hole_err: float):
+    """Sum the element shares (``math.fsum``) into the lower and upper functional.
+
+    Returns ``(lower, upper)`` as :class:`~soapfilm.fem.outline.Functional`: the
+    sums and their rounding bounds (twice the first-order bound of every
+    share, plus the sums' own half ulp).
+    """
+    u = UNIT_ROUNDOFF
+    lo_val = math.fsum(shares_lo.tolist()) + hole_term
+    hi_val = math.fsum(shares_hi.tolist())
+    lo_r = 2.0 * (math.fsum(err_lo.tolist()) + hole_err + 2.0 * u * abs(lo_val))
+    hi_r = 2.0 * (math.fsum(err_hi.tolist()) + 2.0 * u * abs(hi_val))
+    return Functional(lo_val, lo_r, shares_lo), Functional(hi_val, hi_r, shares_hi)
+
+
+#: Elements per chunk when the shares of a whole mesh are evaluated (the straight
+#: elements' gradient arrays take some 2 kB per element while they live).
+_CHUNK = 32_768
+
+
+def _all_shares(p, t6, curved, phi, omega):
+    """:func:`_shares` of every element (the discrete problem's own rule), in chunks."""
+    m = t6.shape[1]
+    parts = [_shares(p, t6, curved, np.arange(i, min(i + _CHUNK, m)), phi, omega, certify=False)
+             for i in range(0, m, _CHUNK)]
+    return tuple(np.concatenate([pt[j] for pt in parts]) for j in range(4))
+
+
+def _hole_term(mesh: Mesh, nodes: P2Nodes, q: np.ndarray, cvals: np.ndarray):
+    """``4 sum_k C_k A_k`` with the loops on nodes ``q`` (quadratic edges), and a rounding bound.
+
+    Each hole's area (:func:`_segment_areas`) taken relative to its loop's first
+    node and summed with ``math.fsum``.
+    """
+    if not mesh.nholes:
+        return 0.0, 0.0, np.zeros(0)
+    u = UNIT_ROUNDOFF
+    e = nodes.segment_edges
+    mk = mesh.segment_markers
+    areas = np.zeros(mesh.nholes)
+    term, err = 0.0, 0.0
+    for k in range(mesh.nholes):
+        sel = np.flatnonzero(mk == k + 2)
+        if not len(sel):
+            continue
+        ref = q[:, e[0, sel[0]]][:, None]
+        a, b = q[:, e[0, sel]] - ref, q[:, e[1, sel]] - ref
+        m = q[:, nodes.segment_mid[sel]] - ref
+        d = m - 0.5 * (a + b)
+        ed = b - a
+        c1, c2 = a[0] * b[1], a[1] * b[0]
+        c3, c4 = ed[0] * d[1], ed[1] * d[0]
+        areas[k] = -math.fsum((0.5 * (c1 - c2) - (2.0 / 3.0) * (c3 - c4)).tolist())
+        bound = 8.0 * u * math.fsum((np.abs(c1) + np.abs(c2) + np.abs(c3) + np.abs(c4)).tolist())
+        term += 4.0 * float(cvals[k]) * areas[k]
+        err += 4.0 * abs(float(cvals[k])) * (bound + u * abs(areas[k])) + 4.0 * u * abs(term)
+    return term, err, areas
+
+
+def _energy_upper(num: np.ndarray, det: np.ndarray, w: np.ndarray, dmin: np.ndarray,
+                  factor: bool = False):
     """Upper bound of ``int_ref num / det`` (``num >= 0``, ``det > 0`` polynomials).
 
     With ``D0`` the mean of ``det`` and ``eps = det / D0 - 1``,
@@ -840,7 +974,9 @@ def _energy_upper(num: np.ndarray, det: np.ndarray, w: np.ndarray, dmin: np.ndar
     eps = det / d0 - 1.0
     e2 = eps * eps
     poly = 1.0 - eps + e2 - e2 * eps
-    return 0.5 * (w @ (num * poly) / d0 + w @ (num * e2 * e2) / dmin)
+    fac = poly / d0 + e2 * e2 / dmin  # the weight each point's num gets
+    out = 0.5 * (w @ (num * fac))
+    return (out, fac) if factor else out
 
 
 def _conic(curve: Curve):
@@ -1255,28 +1391,27 @@ def _curved_domains(mesh, nodes, margin: float = 1.1, tries: int = 10):
                           how="curved", moved=moved)
 
 
-def _drawn_bounds(mesh: Mesh, fields: P2Fields, construction: str):
+def _drawn_bounds(mesh: Mesh, fields: P2Fields, construction: str, shares):
     """J bounds for the drawn outline from the P2 fields (see :func:`outline_domains`).
 
-    Returns ``(j_lo, j_hi, slack, scope, how)``: each bound is the mesh pair's
-    value plus the change of the functional on the elements the construction
-    touches (the others are identical), so rounding in the sums over all
-    elements does not enter the difference; ``slack`` is each element's
-    share of the two changes (added to the refinement indicators).
+    ``shares`` are the mesh's element shares and their rounding bounds
+    (:func:`_all_shares`).  Returns ``(j_lo, j_hi, slack, scope, how)``: each
+    bound is the sum of every element's share on its domain (the elements the
+    construction touches evaluated afresh, the others as on the mesh), widened
+    by its rounding bound; ``slack`` is each element's share of the two
+    changes (added to the refinement indicators), ``rounding`` the two
+    widenings together.
     """
     nodes = fields.nodes
     t6 = nodes.t6
     m = t6.shape[1]
     origin = fields.origin[:, None]
     phi, w, cvals = fields.phi, fields.omega, fields.hole_values
+    mesh_lo, mesh_hi, mesh_elo, mesh_ehi = shares
     dom = outline_domains(mesh, nodes, construction)
     touched = np.zeros(nodes.nnodes, dtype=bool)
     touched[dom.moved] = True
     elems = np.flatnonzero(touched[t6].any(axis=0) | nodes.curved)
-    base_lo, base_hi = _shares(fields.p, t6, nodes.curved, elems, phi, w, certify=False)
-    mk = mesh.segment_markers
-    seg_c = np.concatenate([[0.0], cvals])[mk - 1]  # 0 on the outer loop, C_k on hole k
-    base_seg = _segment_areas(mesh, nodes, nodes.p6)
     if dom.ok:
         p_lo, p_hi, scope, how = dom.p_in, dom.p_out, "curves", dom.how
         curved = dom.curved
@@ -1285,14 +1420,17 @@ def _drawn_bounds(mesh: Mesh, fields: P2Fields, construction: str):
         p_lo = p_hi = _straight_mesh(nodes)
         curved = np.zeros(m, dtype=bool)
         scope, how = "mesh", ""
-    lo_new, _ = _shares(p_lo - origin, t6, curved, elems, phi, w, certify=True)
-    _, hi_new = _shares(p_hi - origin, t6, curved, elems, phi, w, certify=True)
-    d_lo = lo_new - base_lo
-    d_hi = hi_new - base_hi
-    # hole terms 4 C_k A_k, A_k = -(sum of its segments' terms)
-    d_hole = -4.0 * float(np.dot(seg_c, _segment_areas(mesh, nodes, p_lo) - base_seg))
-    j_lo = fields.j_lo_mesh + float(d_lo.sum()) + d_hole
-    j_hi = fields.j_hi_mesh + float(d_hi.sum())
+    lo_new, _, elo_new, _ = _shares(p_lo - origin, t6, curved, elems, phi, w, certify=True)
+    _, hi_new, _, ehi_new = _shares(p_hi - origin, t6, curved, elems, phi, w, certify=True)
+    lo_all, hi_all = mesh_lo.copy(), mesh_hi.copy()
+    elo_all, ehi_all = mesh_elo.copy(), mesh_ehi.copy()
+    lo_all[elems], elo_all[elems] = lo_new, elo_new
+    hi_all[elems], ehi_all[elems] = hi_new, ehi_new
+    hterm, herr, _ = _hole_term(mesh, nodes, p_lo - origin, cvals)
+    lower, upper = _functionals(lo_all, hi_all, elo_all, ehi_all, hterm, herr)
+    j_lo, j_hi = lower.lower, upper.upper
+    d_lo = lo_new - mesh_lo[elems]
+    d_hi = hi_new - mesh_hi[elems]
     slack = np.zeros(m)
     if dom.ok:
         # an element next to hole k gains or loses 4 C_k times its area change in
@@ -1306,7 +1444,7 @@ def _drawn_bounds(mesh: Mesh, fields: P2Fields, construction: str):
         on_b = nodes.boundary_marker > 0
         hit = on_b[t6].any(axis=0)
         slack[hit] = (j_hi - j_lo) / max(int(hit.sum()), 1)
-    return j_lo, j_hi, slack, scope, how
+    return j_lo, j_hi, slack, scope, how, lower.rounding + upper.rounding
 
 
 def _straight_mesh(nodes: P2Nodes) -> np.ndarray:

@@ -35,6 +35,7 @@ import scipy.sparse as sp
 from ..mesh import Mesh
 from . import p1
 from .linsolve import solve_spd
+from .outline import Functional, hole_loop_areas, p1_lower, p1_upper
 
 __all__ = ["TorsionFields", "solve_torsion", "recovered_gradient", "element_indicators",
            "BOUNDS_SCOPES", "drawn_outline_bounds"]
@@ -69,6 +70,7 @@ class TorsionFields:
     j_lo_mesh: float = float("nan")  # bounds for the mesh polygon (hypercircle pair)
     j_hi_mesh: float = float("nan")
     bounds_scope: str = "polygon"  # what j_lo, j_hi hold for: see BOUNDS_SCOPES
+    bounds_rounding: float = 0.0  # how far j_lo and j_hi were widened for rounding, together
 
 
 def section_centroid(p, t) -> tuple[float, np.ndarray]:
@@ -100,11 +102,10 @@ def solve_torsion(mesh: Mesh, method: str = "auto") -> TorsionFields:
     x = solve_spd(k_red, b_red, method=method)
     phi = prolong @ x
     hole_values = x[nfree:].copy()
-    # 2 l(phi) - a(phi, phi) is a lower bound on J for ANY admissible phi (the
-    # complementary-energy functional), so the bound survives an inexact solve;
-    # at the exact discrete solution it equals l(phi) = 2 int(phi) + 2 sum C_k A_k.
-    j_lo = 2.0 * float(b_red @ x) - float(x @ (k_red @ x))
-
+    # L(phi) = 4 int(phi) + 4 sum C_k A_k - int |grad phi|^2 is a lower bound on J for
+    # ANY admissible phi (complementary energy), so the bound survives an inexact
+    # solve; summed element by element with a rounding bound (fem.outline)
+    lower = p1_lower(p, t, phi, hole_values, *hole_loop_areas(mesh, p))
     # ---- warping function: node 0 pinned (fixes the free constant)
     f = p1.coordinate_load(p, t, area, grad, n)
     w = np.zeros(n)
@@ -112,14 +113,15 @@ def solve_torsion(mesh: Mesh, method: str = "auto") -> TorsionFields:
     w -= (p1.lumped_load(t, area, n) @ w) / total  # mean zero
     ixx, iyy, _ = p1.second_moments(p, t, area)
     ip = float(ixx.sum() + iyy.sum())
-    # int |tau_w|^2 = Ip - 2 f.w + a(w, w) >= J for ANY w (potential energy), so
-    # this upper bound also survives an inexact solve; at the exact discrete
-    # solution it equals Ip - a(w, w).
-    j_hi = ip - 2.0 * float(f @ w) + float(w @ (k @ w))
-
+    # E(w) = int |tau_w|^2 >= J for ANY w (potential energy), so this upper bound
+    # also survives an inexact solve; element by element, a sum of non-negative
+    # terms (fem.outline.p1_upper: the form Ip - 2 f.w + a(w, w) cancelled terms of
+    # size Ip down to J)
+    upper = p1_upper(p, t, w)
+    j_lo, j_hi = lower.value, upper.value
     eta2 = element_indicators(p, t, area, grad, phi, w)
-    j_lo_d, j_hi_d, slack, scope = drawn_outline_bounds(mesh, origin, phi, hole_values, w,
-                                                        j_lo, j_hi)
+    j_lo_d, j_hi_d, slack, scope, rnd = drawn_outline_bounds(mesh, origin, phi, hole_values, w,
+                                                        lower, upper)
     return TorsionFields(
         origin=origin,
         p=p,
@@ -136,6 +138,7 @@ def solve_torsion(mesh: Mesh, method: str = "auto") -> TorsionFields:
         j_lo_mesh=j_lo,
         j_hi_mesh=j_hi,
         bounds_scope=scope,
+        bounds_rounding=rnd,
     )
 
 
@@ -146,18 +149,21 @@ def mesh_hole_nodes(mesh: Mesh) -> np.ndarray:
     return mask
 
 
-def drawn_outline_bounds(mesh: Mesh, origin, phi, hole_values, omega, j_lo, j_hi):
+def drawn_outline_bounds(mesh: Mesh, origin, phi, hole_values, omega, lower: Functional,
+                         upper: Functional):
     """J bounds for the drawn outline from the mesh's P1 fields (see :mod:`.outline`).
 
-    Returns ``(j_lo, j_hi, slack, scope)``: the bounds, each element's share of
-    the extra width they have over the mesh polygon's bounds (added to the
-    refinement indicators, so the loop refines where the curves need it), and
-    the :data:`BOUNDS_SCOPES` key.
+    ``lower`` and ``upper`` are the two functionals on the mesh itself.
+    Returns ``(j_lo, j_hi, slack, scope, rounding)``: the bounds (each widened
+    by its rounding bound, ``rounding`` the two widenings together), each
+    element's share of the extra width they have over the mesh polygon's
+    bounds (added to the refinement indicators, so the loop refines where the
+    curves need it), and the :data:`BOUNDS_SCOPES` key.
     """
     m = mesh.nelements
     if not np.any(mesh.segment_curves >= 0):
-        return j_lo, j_hi, np.zeros(m), "polygon"
-    from .outline import outline_polygons, p1_lower, p1_upper
+        return lower.lower, upper.upper, np.zeros(m), "polygon", lower.rounding + upper.rounding
+    from .outline import outline_polygons
 
     poly = outline_polygons(mesh)
     t = mesh.t[:3]
@@ -167,25 +173,22 @@ def drawn_outline_bounds(mesh: Mesh, origin, phi, hole_values, omega, j_lo, j_hi
         on_b = np.zeros(mesh.nnodes, dtype=bool)
         on_b[mesh.segments.ravel()] = True
         hit = on_b[t].any(axis=0)
-        slack[hit] = (j_hi - j_lo) / max(int(hit.sum()), 1)
-        return j_lo, j_hi, slack, "mesh"
+        slack[hit] = (upper.value - lower.value) / max(int(hit.sum()), 1)
+        return lower.lower, upper.upper, slack, "mesh", lower.rounding + upper.rounding
     c = np.asarray(origin)[:, None]
-    lo_in, per_in = p1_lower(poly.p_in - c, t, phi, hole_values, mesh.hole_loop_areas(poly.p_in))
-    hi_out, per_out = p1_upper(poly.p_out - c, t, omega)
-    _, per_lo = p1_lower(mesh.p - c, t, phi, hole_values, mesh.hole_areas)
-    _, per_hi = p1_upper(mesh.p - c, t, omega)
+    p_in, p_out = poly.p_in - c, poly.p_out - c
+    f_in = p1_lower(p_in, t, phi, hole_values, *hole_loop_areas(mesh, p_in))
+    f_out = p1_upper(p_out, t, omega)
     # the hole term 4 C_k A_k changes by what the elements next to hole k lose in
     # area; give each element its share so that the shares sum to the bound's change
     # and large opposite parts do not stand as slack (phi = C_k on hole nodes, 0 outside)
-    area_in = p1.geometry(poly.p_in - c, t)[0]
+    area_in = p1.geometry(p_in, t)[0]
     hole_phi = np.where(mesh_hole_nodes(mesh), phi, 0.0)[t].max(axis=0)
-    d_lo = per_lo - per_in + 4.0 * hole_phi * (area_in - p1.geometry(mesh.p - c, t)[0])
-    slack = np.abs(d_lo) + np.abs(per_out - per_hi)
-    # each bound is the mesh's own plus the functional's change on the moved nodes,
-    # so rounding in the sums over all elements does not enter the difference
-    return (j_lo - (np.sum(per_lo - per_in) + 4.0 * np.dot(hole_values, mesh.hole_areas
-                                                           - mesh.hole_loop_areas(poly.p_in))),
-            j_hi + np.sum(per_out - per_hi), slack, "curves")
+    d_lo = lower.per - f_in.per + 4.0 * hole_phi * (area_in - p1.geometry(mesh.p - c, t)[0])
+    slack = np.abs(d_lo) + np.abs(f_out.per - upper.per)
+    # each functional is summed afresh on its moved nodes: a sum of terms no larger
+    # than J (no cancellation), with its own rounding bound
+    return f_in.lower, f_out.upper, slack, "curves", f_in.rounding + f_out.rounding
 
 
 def stress_function_system(k, b, marker, hole_areas):
@@ -230,11 +233,15 @@ def element_indicators(p, t, area, grad, phi, omega) -> np.ndarray:
     """
     gphi = np.einsum("cie,ie->ce", grad, phi[t])
     gw = np.einsum("cie,ie->ce", grad, omega[t])
-    v = np.stack([gw[0] - gphi[1], gw[1] + gphi[0]])  # constant part of the difference
     xc, yc = p[0, t].mean(axis=0), p[1, t].mean(axis=0)
-    ixx, iyy, _ = p1.second_moments(p, t, area)
-    # int |v + (-y, x)|^2 = A|v|^2 + 2 A (v0 (-yc) + v1 xc) + int (x^2 + y^2)
-    return area * (v[0] ** 2 + v[1] ** 2) + 2.0 * area * (-v[0] * yc + v[1] * xc) + ixx + iyy
+    # the difference is v + (-(y - yc), x - xc) with v its value at the centroid:
+    # int |.|^2 = A |v|^2 + int |x - x_c|^2, two non-negative terms
+    v0 = gw[0] - yc - gphi[1]
+    v1 = gw[1] + xc + gphi[0]
+    x, y = p[0, t], p[1, t]
+    sq = ((x[1] - x[0]) ** 2 + (y[1] - y[0]) ** 2 + (x[2] - x[1]) ** 2 + (y[2] - y[1]) ** 2
+          + (x[0] - x[2]) ** 2 + (y[0] - y[2]) ** 2)
+    return area * (v0 * v0 + v1 * v1) + area * sq / 36.0
 
 
 def element_gradients(t, grad, u) -> np.ndarray:
