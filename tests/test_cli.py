@@ -99,8 +99,12 @@ def test_unknown_suffix(tmp_path, capsys):
     assert "unknown file type" in capsys.readouterr().err
 
 
-def test_debug_shows_traceback(tmp_path):
-    from soapfilm.errors import InputError
-
-    with pytest.raises(InputError):
-        main(["solve", str(tmp_path / "missing.txt"), "--debug"])
+def test_debug_shows_traceback(tmp_path, capsys):
+    """--debug (after or before the command) adds the traceback; the error line and the
+    user error's status 2 stay (before, the error was raised: status 1, as for a bug)."""
+    for args in (["solve", str(tmp_path / "missing.txt"), "--debug"],
+                 ["--debug", "solve", str(tmp_path / "missing.txt")]):
+        assert main(args) == 2
+        err = capsys.readouterr().err
+        assert err.startswith("Traceback") and "InputError" in err
+        assert err.splitlines()[-1].startswith("soapfilm: error: ")

@@ -98,7 +98,8 @@ def test_chord_far_below_the_size_refused(tmp_path, capsys):
     src = tmp_path / "round.toml"
     src.write_text('units = "mm"\n[section]\nkind = "round"\ndiameter = 40\n'
                    "[mesh]\nchord = 1e-12\n")
-    _refused(capsys, ["solve", str(src)], tmp_path, "chord", "9.9e+06 points", "at least 4e-07")
+    _refused(capsys, ["solve", str(src)], tmp_path, "[mesh] chord", "9.9e+06 points",
+             "at least 4e-07")
 
 
 def test_far_rectangle_solved_at_the_origin(tmp_path, capsys):
@@ -344,6 +345,40 @@ def test_adaptive_loop_stops_within_the_budget():
     j, _ = ref.rectangle_series(10, 10)
     lo, hi = r.torsion_constant_bounds
     assert lo <= j * (1 + 1e-9) and j * (1 - 1e-9) <= hi
+
+
+THIN = [(0.0, 0.0), (0.73, 0.0), (0.73, 0.73e-3), (0.0, 0.73e-3)]  # 1:1000, 0.73 mm long
+
+
+def test_adaptive_start_within_max_elements():
+    """A 1:1000 strip whose default start (9 111 elements) is over max_elements = 3000
+    starts coarser, within the cap, and its bracket holds the series value of J
+    (Timoshenko & Goodier, 3rd ed., sec. 109).  Before, the start ignored the cap (a
+    1:1000 star 0.73 mm long started at 92 393 elements with a cap of 9 000)."""
+    strip = Profile.from_loops([THIN], units="mm")
+    r = analyse(strip, tol=1e-4, max_elements=3000)
+    assert r.refinement[0]["elements"] <= 3000
+    j, _ = ref.rectangle_series(0.73, 0.73e-3)
+    lo, hi = r.torsion_constant_bounds
+    assert lo <= j <= hi
+    assert r.converged is True or any("--max-elements 3000" in w for w in r.warnings)
+
+
+def test_adaptive_start_that_no_size_brings_under_the_cap():
+    """With a cap of 500 the strip's coarsest mesh (about 1 200 elements: Triangle's
+    30-degree elements across a 1:1000 strip) is solved as it is: a warning says so and
+    that the cap stopped refinement; the bracket still holds the series value of J
+    (sec. 109).  A mesh size given with it is refused naming --max-elements."""
+    strip = Profile.from_loops([THIN], units="mm")
+    r = analyse(strip, tol=1e-4, max_elements=500)
+    assert len(r.refinement) == 1 and r.converged is False
+    assert any("coarsest starting mesh" in w and "--max-elements 500" in w for w in r.warnings)
+    assert any("tolerance not met" in w for w in r.warnings)
+    j, _ = ref.rectangle_series(0.73, 0.73e-3)
+    lo, hi = r.torsion_constant_bounds
+    assert lo <= j <= hi
+    with pytest.raises(InputError, match="--max-elements: the starting mesh at element size"):
+        analyse(strip, tol=1e-4, mesh_size=1e-4, max_elements=500)
 
 
 def test_mesh_file_over_budget_refused(tmp_path, capsys):

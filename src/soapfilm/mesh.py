@@ -24,7 +24,11 @@ the first polygon.
 
 from __future__ import annotations
 
+import contextlib
 import dataclasses
+import os
+import pickle
+import signal
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -128,7 +132,10 @@ class Mesh:
             "segment_markers": codes.reshape(-1, 1),
             "triangle_max_area": limit.reshape(-1, 1),
         }
-        out = _triangulated(data, f"rpq{MIN_ANGLE:g}aQ")
+        area = np.abs(self.element_areas())
+        expected = float(np.sum(np.where(limit > 0, np.maximum(area / np.where(
+            limit > 0, limit, 1.0), 1.0), 1.0)))
+        out = _triangulated(data, f"rpq{MIN_ANGLE:g}aQ", expected)
         return _from_triangle(out, table, self.curves)
 
     def curve_nodes(self) -> tuple[np.ndarray, np.ndarray]:
@@ -213,7 +220,7 @@ def mesh_profile(profile: Profile, size: float | None = None, *, memory=None) ->
     precheck_mesh(profile, size, memory)  # before resampling: area and curve lengths only
     loops = [resampled_loop(loop, tags, profile.curves, size)
              for loop, tags in zip(profile.loops, profile.edge_curves, strict=True)]
-    check_mesh(profile, size, memory, loops)
+    est = check_mesh(profile, size, memory, loops)
     max_area = np.sqrt(3.0) / 4.0 * size * size
     verts, segs, marks, curv, hole_pts = [], [], [], [], []
     start = 0
@@ -237,22 +244,24 @@ def mesh_profile(profile: Profile, size: float | None = None, *, memory=None) ->
     if hole_pts:
         data["holes"] = np.array(hole_pts)
     area_text = np.format_float_positional(max_area, unique=True, trim="-")  # every digit
-    out = _triangulated(data, f"pq{MIN_ANGLE:g}a{area_text}Q")
+    out = _triangulated(data, f"pq{MIN_ANGLE:g}a{area_text}Q", est.elements)
     return _from_triangle(out, table, profile.curves)
 
 
-def _triangulated(data: dict, switches: str) -> dict:
+def _triangulated(data: dict, switches: str, expected: float = 0.0) -> dict:
     """Triangle's ``triangulate`` with its C-level printing kept off the terminal.
 
     Even in quiet mode (``Q``) Triangle prints why it gives up on standard
     output, which would break ``--json -``; the text goes into the error instead.
+    ``expected`` is the number of elements the call is expected to make: a
+    long call runs in a child process (:func:`_triangulate_interruptibly`).
     """
     from .quiet import c_output_captured
 
     failed = False
     with c_output_captured() as said:
         try:
-            out = tr.triangulate(data, switches)
+            out = _triangulate_interruptibly(data, switches, expected)
         except RuntimeError:
             failed = True
     text = " ".join(" ".join(said).split())
@@ -267,6 +276,73 @@ def _triangulated(data: dict, switches: str) -> dict:
               "near-touching pair of edges, or coordinates far from the origin)")
     raise SolveError("the mesher could not triangulate the section"
                      + (f" (Triangle: {text})" if text else ""))
+
+
+#: Meshes expected above this many elements are made in a child process (about 0.2 s
+#: of Triangle and more): Triangle runs in C holding the interpreter lock, so a
+#: SIGTERM's Python handler (which removes the run's staged files) would wait for
+#: it to return - 10 s and more for a few million elements.
+FORK_ABOVE = 200_000
+
+
+def _triangulate_interruptibly(data: dict, switches: str, expected: float) -> dict:
+    """``triangle.triangulate``, in a forked child when ``expected`` elements are many.
+
+    The parent waits on a pipe, a system call that signals interrupt: a
+    SIGTERM's handler runs at once and raises in the parent, which then kills
+    the child (SIGKILL) and reaps it, so the command ends within moments with
+    its staged files removed (``cli/_io.py``).  The child inherits descriptor
+    1 as the caller set it (:func:`soapfilm.quiet.c_output_captured`), sends
+    back the result or Triangle's RuntimeError, and leaves by ``os._exit``
+    (no exit handlers of the parent run in it).  Only in the main thread of a
+    system with ``fork``; elsewhere, and for small meshes, Triangle runs here.
+    """
+    import threading
+
+    if (expected < FORK_ABOVE or not hasattr(os, "fork")
+            or threading.current_thread() is not threading.main_thread()):
+        return tr.triangulate(data, switches)
+    read_end, write_end = os.pipe()
+    pid = os.fork()
+    if pid == 0:  # the child: Triangle, the answer down the pipe, out
+        code = 0
+        try:
+            os.close(read_end)
+            signal.signal(signal.SIGTERM, signal.SIG_DFL)
+            signal.signal(signal.SIGINT, signal.SIG_DFL)
+            try:
+                answer = ("ok", tr.triangulate(data, switches))
+            except RuntimeError as exc:
+                answer = ("error", str(exc))
+            with os.fdopen(write_end, "wb") as pipe:
+                pickle.dump(answer, pipe, protocol=pickle.HIGHEST_PROTOCOL)
+        except BaseException:  # noqa: BLE001 - nothing of the parent may run on in the child
+            code = 1
+        finally:
+            os._exit(code)
+    os.close(write_end)
+    done = False
+    try:
+        with os.fdopen(read_end, "rb") as pipe:
+            try:
+                kind, value = pickle.load(pipe)
+            except EOFError:
+                kind, value = "died", None
+        _, status = os.waitpid(pid, 0)
+        done = True
+    finally:
+        if not done:  # a signal (or anything else) while the child works: stop it
+            with contextlib.suppress(OSError):
+                os.kill(pid, signal.SIGKILL)
+            with contextlib.suppress(OSError):
+                os.waitpid(pid, 0)
+    if kind == "ok":
+        return value
+    if kind == "error":
+        raise RuntimeError(value)
+    how = (f"killed by {signal.Signals(os.WTERMSIG(status)).name}" if os.WIFSIGNALED(status)
+           else f"exit status {os.WEXITSTATUS(status)}")
+    raise SolveError(f"the mesher stopped before it finished ({how}; out of memory?)")
 
 
 def _encoded(markers: np.ndarray, curves: np.ndarray) -> tuple[np.ndarray, np.ndarray]:

@@ -178,14 +178,56 @@ class Ellipse(Curve):
         return local @ self._rot().T
 
     def project(self, xy) -> np.ndarray:
+        """Eccentric angles of the nearest points, by the foot point's multiplier.
+
+        In the ellipse's own frame, with ``A >= B`` the longer and shorter
+        semi-axis and the point ``(x0, y0)`` reflected into the first
+        quadrant, the nearest point is stationary for the Lagrangian of
+        ``|p - x0|^2`` under ``x^2/A^2 + y^2/B^2 = 1``:
+        ``x = A^2 x0 / (A^2 - B^2 + mu)``, ``y = B^2 y0 / mu`` with
+        ``mu = lambda + B^2``, where ``mu`` solves
+        ``F(mu) = (A x0 / (A^2 - B^2 + mu))^2 + (B y0 / mu)^2 = 1``.  For
+        ``y0 > 0`` the nearest point is the root with ``mu > 0``; ``F``
+        falls strictly there, from above 1 at ``mu = B y0`` to below 1 at
+        ``mu = A r + B^2`` (``r = |(x0, y0)|``), so bisection on ``log mu``
+        finds it to rounding whatever the axis ratio.  On the major axis
+        (``y0 = 0``) the foot is ``x = A^2 x0 / (A^2 - B^2)`` off the axis while
+        that is inside the ellipse, else the vertex.  Newton's method on the
+        eccentric angle, used before, wandered off near the ends of a slender
+        ellipse (axis ratio 1e-4: a node 6e-6 inside the flat was put 1.3e-4
+        away, at the tip) and turned elements inside out.
+        """
         xy = np.atleast_2d(np.asarray(xy, dtype=float))
         local = (xy - np.array([self.cx, self.cy])) @ self._rot()
-        t = np.arctan2(local[:, 1] / self.b, local[:, 0] / self.a)
-        # the foot-point equation has up to four roots: start from the
-        # eccentric angle and from its neighbours, keep the nearest result
-        cands = np.stack([self._polished(xy, t + d, steps=8) for d in (0.0, -0.3, 0.3)])
-        dist = np.stack([np.hypot(*(self.point(c) - xy).T) for c in cands])
-        return cands[np.argmin(dist, axis=0), np.arange(len(t))]
+        swap = self.b > self.a
+        big, small = (self.b, self.a) if swap else (self.a, self.b)
+        u, v = (local[:, 1], local[:, 0]) if swap else (local[:, 0], local[:, 1])
+        x0, y0 = np.abs(u), np.abs(v)
+        lo = np.maximum(small * y0, np.finfo(float).tiny)
+        hi = big * np.hypot(x0, y0) + small * small
+        gap = big * big - small * small
+        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+            for _ in range(80):  # log-bisection: relative width 2^-80 of a range under 1e600
+                mid = np.sqrt(lo) * np.sqrt(hi)
+                f = (big * x0 / (gap + mid)) ** 2 + (small * y0 / mid) ** 2
+                above = f > 1.0
+                lo = np.where(above, mid, lo)
+                hi = np.where(above, hi, mid)
+            mu = np.sqrt(lo) * np.sqrt(hi)
+            fx = np.where(y0 > 0, big * big * x0 / (gap + mu), np.nan)
+            fy = np.where(y0 > 0, small * small * y0 / mu, np.nan)
+            on_axis = ~(y0 > 0)
+            if np.any(on_axis):
+                xa = np.where(gap > 0, big * big * x0 / np.where(gap > 0, gap, 1.0), np.inf)
+                inside = xa < big
+                fx = np.where(on_axis, np.where(inside, xa, big), fx)
+                fy = np.where(on_axis, np.where(inside, small * np.sqrt(
+                    np.maximum(0.0, 1.0 - (xa / big) ** 2)), 0.0), fy)
+        fx = np.copysign(fx, u)
+        fy = np.copysign(fy, v)
+        if swap:
+            fx, fy = fy, fx
+        return np.arctan2(fy / self.b, fx / self.a)
 
     def moved(self, matrix, offset) -> Curve:
         m = np.asarray(matrix, dtype=float)

@@ -310,16 +310,13 @@ def resampled_loop(xy: np.ndarray, edge_curve: np.ndarray, curves: Sequence[Curv
         sub = 16
         tf = np.concatenate([np.linspace(tv[k], tv[k + 1], sub, endpoint=False)
                              for k in range(count)] + [tv[-1:]])
-        pf = cv.point(tf)
-        d = np.diff(pf, axis=0)
+        tf, pf, d, turn = _fine_grid(cv, tf, max_turn)
         ds = np.hypot(*d.T)
-        # the turning from the fine chords' directions, not from the derivative, which
-        # vanishes where an involute leaves its base circle (its direction is then 0/0)
-        ang = np.unwrap(np.arctan2(d[:, 1], d[:, 0]))
-        turn = np.abs(np.diff(ang))
         turn = np.concatenate([turn[:1], 0.5 * (turn[1:] + turn[:-1]), turn[-1:]]) \
             if len(turn) else np.zeros(len(ds))
-        hf = np.interp(np.arange(len(tf)) / sub, np.arange(count + 1), hv[idx])
+        # the mesh size at each fine point, by where it lies between the run's vertices
+        hf = np.interp(tf, tv, hv[idx]) if tv[-1] > tv[0] else \
+            np.interp(-tf, -tv, hv[idx])
         step = np.maximum(ds / (0.5 * (hf[1:] + hf[:-1])), turn / max_turn)
         measure = np.concatenate([[0.0], np.cumsum(step)])
         m = max(1, math.ceil(measure[-1] - 1e-9))
@@ -347,6 +344,44 @@ def resampled_loop(xy: np.ndarray, edge_curve: np.ndarray, curves: Sequence[Curv
         out_ec = out_ec[(np.r_[keep[1:], keep[0] + len(out)] - 1) % len(out)]
         out = out[keep]
     return out, out_ec
+
+
+def _fine_grid(cv: Curve, tf: np.ndarray, max_turn: float, max_rounds: int = 60
+               ) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """A parameter grid on which no two neighbouring chords turn by more than ``max_turn / 4``.
+
+    The grid starts uniform in the parameter; a curve whose turning is packed
+    into a small stretch of its parameter (the ends of a slender ellipse: at
+    axis ratio 1e-4 the tangent turns through 90 degrees within 1e-4 rad of the
+    eccentric angle, a two-hundredth of a uniform step) shows it as one large
+    turn between two chords.  The intervals on both sides of such a turn are
+    halved until the turn is spread (each halving at least halves the part of
+    a smooth turn one pair of chords carries), or their parameter step is at
+    rounding level.  The turning is read from the chords' directions, not
+    from the derivative, which vanishes where an involute leaves its base
+    circle (its direction is then 0/0).
+
+    Returns the grid, its points, its chords ``(n - 1, 2)`` and the turn
+    between consecutive chords ``(n - 2,)``.
+    """
+    for rnd in range(max_rounds + 1):
+        pf = cv.point(tf)
+        d = np.diff(pf, axis=0)
+        turn = np.abs(np.diff(np.unwrap(np.arctan2(d[:, 1], d[:, 0]))))
+        if rnd == max_rounds:
+            break
+        wide = np.zeros(len(d), dtype=bool)
+        sharp = turn > 0.25 * max_turn
+        wide[:-1] |= sharp
+        wide[1:] |= sharp
+        dt = np.diff(tf)
+        wide &= np.abs(dt) > 64.0 * np.finfo(float).eps * np.maximum(1.0, np.abs(tf[:-1]))
+        if not np.any(wide):
+            break
+        tf = np.sort(np.concatenate([tf, tf[:-1][wide] + 0.5 * dt[wide]]))
+        if dt[0] < 0:
+            tf = tf[::-1]
+    return tf, pf, d, turn
 
 
 def _unit_tangents(cv: Curve, xy: np.ndarray, toward: np.ndarray) -> np.ndarray:

@@ -39,7 +39,7 @@ from shapely.geometry import Polygon
 
 from ..errors import GeometryError, InputError
 from ..profile import LENGTH_UNITS, Profile
-from ..shapes.compose import combined, placed
+from ..shapes.compose import ROTATE_LIMIT, combined, placed
 from ..shapes.file_keys import MESH_KEYS, PART_KEYS, SOLVE_KEYS, SPECIAL_KINDS, TOP_KEYS
 from ..shapes.registry import KINDS, build, suggest
 from ..units import parse_drawing_length
@@ -193,10 +193,20 @@ def _part(tab, where: str, base: Path, units: str, chord: float | None,
             if k not in allowed:
                 raise InputError(f"unknown key {k!r} for kind {kind!r}", where=where,
                                  fix=suggest(k, allowed))
-        prof = build(kind, dims, chord=chord, units=units, where=where)
+        try:
+            prof = build(kind, dims, chord=chord, units=units, where=where)
+        except InputError as exc:
+            if exc.where != f"{where} chord":
+                raise
+            # the chord tolerance is the file's [mesh] setting, checked against each shape
+            raise InputError(exc.what, where=f"{where.rsplit(' [', 1)[0]} [mesh] chord",
+                             fix=exc.fix) from None
     rot = tab.get("rotate", 0.0)
-    if isinstance(rot, bool) or not isinstance(rot, (int, float)) or not math.isfinite(rot):
-        raise InputError(f"rotate must be an angle in degrees, got {rot!r}", where=where)
+    if isinstance(rot, bool) or not isinstance(rot, (int, float)) or not math.isfinite(rot) \
+            or abs(rot) > ROTATE_LIMIT:
+        raise InputError(f"rotate must be an angle in degrees within +-{ROTATE_LIMIT:g}, got "
+                         f"{rot!r}", where=where,
+                         fix="give the turn within one revolution, e.g. rotate = 30")
     pos = tab.get("position", [0.0, 0.0])
     if not (isinstance(pos, list) and len(pos) == 2 and all(
             isinstance(c, (int, float)) and not isinstance(c, bool) and math.isfinite(c)

@@ -18,11 +18,25 @@ from ..errors import InputError
 from ..profile import Profile
 from ._geom import flattening_sagitta, to_profile
 
-__all__ = ["placed", "union", "difference", "combined"]
+__all__ = ["placed", "union", "difference", "combined", "ROTATE_LIMIT"]
+
+
+#: Largest turn (degrees, either way) a part may be given: ten turns.  Beyond it the
+#: number is a slip (``rotate = 1e300`` turned by whatever cos(1e300 deg) gives).
+ROTATE_LIMIT = 3600.0
 
 
 def placed(profile: Profile, dx: float = 0.0, dy: float = 0.0, rotate: float = 0.0) -> Profile:
-    """Turn ``profile`` by ``rotate`` degrees about the origin, then move it by (dx, dy)."""
+    """Turn ``profile`` by ``rotate`` degrees about the origin, then move it by (dx, dy).
+
+    The angle is reduced to one turn exactly (``math.fmod``) before it becomes
+    radians; one beyond :data:`ROTATE_LIMIT` or not finite is refused.
+    """
+    if not (math.isfinite(rotate) and abs(rotate) <= ROTATE_LIMIT):
+        raise InputError(f"must be an angle in degrees within +-{ROTATE_LIMIT:g}, got "
+                         f"{rotate!r}", where="rotate",
+                         fix="give the turn within one revolution, e.g. rotate = 30")
+    rotate = math.fmod(rotate, 360.0)
     if not rotate and not dx and not dy:
         return profile
     c, s = math.cos(math.radians(rotate)), math.sin(math.radians(rotate))
