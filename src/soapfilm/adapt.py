@@ -311,7 +311,8 @@ def _next_limit(mesh, fields, peak, refine_j, refine_peak, theta, h_floor, peak_
         # by more than half the tolerance; the peak itself always
         big = np.flatnonzero(peak.candidate_error > 0.5 * peak_tol)
         big = big[np.argsort(peak.candidate_error[big])[::-1][:_MAX_SPOTS]]
-        spots = np.vstack([np.asarray(peak.location)[None, :], peak.candidates[big]])
+        spots = np.vstack([np.asarray(peak.location)[None, :], peak.candidates[big],
+                           peak.unresolved[:_MAX_SPOTS], peak.edge_spots[:_MAX_SPOTS]])
         _, nearest = tree.query(spots, k=min(6, len(cent)))  # the elements round each spot
         h = np.sqrt(np.mean(area[nearest], axis=1) * 4 / np.sqrt(3))
         for idx in tree.query_ball_point(spots, 4.0 * h):

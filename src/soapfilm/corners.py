@@ -42,7 +42,8 @@ __all__ = ["Corner", "TracedRun", "reentrant_corners", "traced_runs",
 DEFAULT_CORNER_TOL_DEG = 10.0
 
 #: The peak reported for a section with sharp corners is the largest at least
-#: this fraction of the section's size (largest bounding-box side) away from them.
+#: this fraction of the section's diameter (largest distance between two outline
+#: points, :attr:`soapfilm.profile.Profile.diameter`) away from them.
 CORNER_ZONE_FRACTION = 0.025
 
 #: Polygon vertices turning by at most this much, next to others turning the same

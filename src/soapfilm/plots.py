@@ -322,7 +322,7 @@ def _wall_profiles(profile: Profile, tri, phi, chords, corners=(), samples: int 
     circle inside touching there (so a ray that enters a wall lengthwise, at
     a corner, stops where the wall's cross-section does).  Chords that start
     or end within the zone of a sharp re-entrant corner
-    (:data:`soapfilm.corners.CORNER_ZONE_FRACTION` of the size; the stress is
+    (:func:`soapfilm.solve.corner_zone_radius`, as the peak rule; the stress is
     unbounded there and lines must crowd) are left out, as the peak rule
     leaves those zones out.  Sampled at ``samples`` points from face to face;
     points the mesh does not cover (a curve's chord) take the nearest value.
@@ -331,7 +331,7 @@ def _wall_profiles(profile: Profile, tri, phi, chords, corners=(), samples: int 
     """
     from matplotlib.tri import LinearTriInterpolator
 
-    from .corners import CORNER_ZONE_FRACTION
+    from .solve import corner_zone_radius
 
     start, normal, length, weight = chords
     pick = np.unique(np.linspace(0, len(start) - 1, min(most, len(start))).round().astype(int))
@@ -339,7 +339,7 @@ def _wall_profiles(profile: Profile, tri, phi, chords, corners=(), samples: int 
     span = np.minimum(length, _inscribed_diameters(profile, start, normal, chords))
     end = start + span[:, None] * normal
     keep = np.ones(len(start), dtype=bool)
-    zone = CORNER_ZONE_FRACTION * profile.size
+    zone = corner_zone_radius(profile)
     for c in corners:
         for xy in (start, end):
             keep &= np.hypot(xy[:, 0] - c.x, xy[:, 1] - c.y) > zone
@@ -691,7 +691,9 @@ def plot_shear(result, ax=None, torque: float | None = None, stress_unit: str = 
     tau = nodal_shear(result)
     mag = np.hypot(tau[0], tau[1]) * scale.factor
     peak = result.max_shear_per_torque * scale.factor
-    drawn, beyond = _against_peak(mesh, t, mag, peak, corners, profile.size)
+    from .solve import corner_zone_radius
+
+    drawn, beyond = _against_peak(mesh, t, mag, peak, corners, corner_zone_radius(profile))
     cmap = matplotlib.colormaps["viridis"].with_extremes(over=OVER_COLOUR)
     pc = ax.tripcolor(tri, drawn, shading="gouraud", cmap=cmap, vmin=0.0, vmax=peak,
                       rasterized=True, zorder=1)
@@ -729,21 +731,18 @@ def plot_shear(result, ax=None, torque: float | None = None, stress_unit: str = 
     return ax
 
 
-def _against_peak(mesh, t, mag, peak: float, corners, size: float):
+def _against_peak(mesh, t, mag, peak: float, corners, zone: float):
     """The field to draw against a colour scale that ends at the reported peak.
 
     Away from the sharp corners (outside the zones the peak rule leaves
-    out, :data:`soapfilm.corners.CORNER_ZONE_FRACTION` of the size) the
+    out, ``zone`` from :func:`soapfilm.solve.corner_zone_radius`) the
     drawn field should not exceed the peak; by how much it does is the
     recovery's own error, and values within it are drawn at the peak.
     Returns the field and whether anything is left beyond the peak.
     """
-    from .corners import CORNER_ZONE_FRACTION
-
     used = np.unique(t)
     x, y = mesh.p[0, used], mesh.p[1, used]
     away = np.ones(len(used), dtype=bool)
-    zone = CORNER_ZONE_FRACTION * size
     for c in corners:
         away &= np.hypot(x - c.x, y - c.y) > zone
     vals = mag[used]

@@ -66,6 +66,15 @@ class Peak:
     candidate_error: np.ndarray = field(default_factory=lambda: np.zeros(0))
     traced: TracedRun | None = None  # the traced curve the peak sits on (polygons only)
     traced_effect: float = 0.0  # how much the polygon's points may move the peak there
+    #: how far (relative to the peak) the shear may rise between the last node read
+    #: and the edge of a zone left out (:func:`zone_edge_rise`)
+    zone_edge: float = 0.0
+    #: places read too close to a zone's centre for their mesh that could hold the
+    #: peak (``(k, 2)`` input coordinates, :func:`unresolved_near_zones`)
+    unresolved: np.ndarray = field(default_factory=lambda: np.zeros((0, 2)))
+    #: nodes next to a zone's edge where the shear may rise above the peak
+    #: (``(k, 2)``, the largest rise first): where to refine for :attr:`zone_edge`
+    edge_spots: np.ndarray = field(default_factory=lambda: np.zeros((0, 2)))
 
 
 def _repeatable(func):
@@ -143,8 +152,15 @@ def boundary_shear(mesh: Mesh, fields: TorsionFields) -> tuple[np.ndarray, np.nd
 
 
 def corner_zone_radius(profile: Profile) -> float:
-    """Radius of the zone round each sharp corner left out of the reported peak."""
-    return CORNER_ZONE_FRACTION * profile.size
+    """Radius of the zone round each sharp corner left out of the reported peak.
+
+    :data:`~soapfilm.corners.CORNER_ZONE_FRACTION` of the section's
+    :attr:`~soapfilm.profile.Profile.diameter` (largest distance between two
+    outline points), which, unlike the bounding box, does not change when
+    the section turns: the peak is a property of the shape, not of its
+    orientation.  The pictures leave out the same zones.
+    """
+    return CORNER_ZONE_FRACTION * profile.diameter
 
 
 def boundary_peak(
@@ -182,6 +198,7 @@ def boundary_peak(
         dist, _ = cKDTree(np.array([(c.x, c.y) for c in corners])).query(xy.T)
         away &= dist > zone
     near = float(tau_phi[~away].max()) if np.any(~away) else 0.0
+    circles = [(c.x, c.y, zone) for c in corners]  # the zones left out: centre and radius
     run_of = np.full(len(nodes), -1)
     if traced:
         from scipy.spatial import cKDTree
@@ -203,8 +220,10 @@ def boundary_peak(
         if np.any(split):
             dist, idx = cKDTree(wxy[split]).query(xy.T)
             away &= dist >= wrad[split][idx]
+            circles += [(x, y, r) for (x, y), r in zip(wxy[split], wrad[split], strict=True)]
     if not np.any(away):  # degenerate: every boundary node is near a corner
         away[:] = True
+        circles = []
     i = int(np.flatnonzero(away)[np.argmax(tau_phi[away])])
     node = int(nodes[i])
     # places that could hold the peak: within twice the peak's own two-field
@@ -226,7 +245,17 @@ def boundary_peak(
         # 0.59 % at N = 256)
         effect = float(1.0 - np.min(tau_phi[along & away]) / tau_phi[i]) if run.concave else \
             1.4 * (run.step_deg or float(np.mean(np.abs(run.turn_deg)))) / 360.0
+    nbr = boundary_neighbours(mesh, fields, nodes)
+    rise = zone_edge_rise(nbr, xy, tau_phi, away, np.isin(nodes, bn[corner]), circles)
+    step = 2.0 if getattr(fields, "order", 1) == 2 else 1.0  # P2: mid-nodes halve the steps
+    unres = unresolved_near_zones(nbr, xy, step, circles) & away \
+        & (tau_phi >= (1.0 - UNRESOLVED_BAND) * tau_phi[i])
+    over = np.flatnonzero(away & (rise > tau_phi[i]))
+    over = over[np.argsort(rise[over])[::-1]]
     return Peak(
+        edge_spots=xy[:, over].T.copy(),
+        unresolved=xy[:, unres].T.copy(),
+        zone_edge=max(0.0, float(np.max(rise[away])) / float(tau_phi[i]) - 1.0),
         value=float(tau_phi[i]),
         node=node,
         location=(float(xy[0, i]), float(xy[1, i])),
@@ -237,6 +266,114 @@ def boundary_peak(
         traced=run,
         traced_effect=effect,
     )
+
+
+def boundary_neighbours(mesh: Mesh, fields: TorsionFields, nodes: np.ndarray) -> np.ndarray:
+    """Positions (in ``nodes``) of each boundary node's two neighbours along its loop.
+
+    Returns ``(2, len(nodes))``: row 0 the node before, row 1 the node after,
+    with the material on the left; -1 where a neighbour is not among ``nodes``.
+    Quadratic elements: a boundary segment ``a -> b`` with mid-node ``m`` is
+    the two steps ``a -> m -> b``.
+    """
+    if getattr(fields, "order", 1) == 2:
+        nd = fields.nodes
+        a, b, m = nd.segment_edges[0], nd.segment_edges[1], nd.segment_mid
+        e = np.stack([np.concatenate([a, m]), np.concatenate([m, b])])
+    else:
+        e = mesh.oriented_boundary()[0].astype(np.int64)
+    order = np.argsort(nodes)
+    pos = order[np.clip(np.searchsorted(nodes, e, sorter=order), 0, len(nodes) - 1)]
+    known = (nodes[pos[0]] == e[0]) & (nodes[pos[1]] == e[1])
+    out = np.full((2, len(nodes)), -1, dtype=np.int64)
+    out[0, pos[1, known]] = pos[0, known]  # before b comes a
+    out[1, pos[0, known]] = pos[1, known]  # after a comes b
+    return out
+
+
+#: A node read closer to a zone's centre (a sharp corner, a traced polygon point)
+#: than this many element lengths has the singular field in the elements it is
+#: read from; DEVELOPERS.md, "Peak error estimate".
+RESOLVED_ELEMENTS = 2.0
+
+#: Unresolved nodes this close to the peak (relative) could hold it: how far such a
+#: node's value fell short of its resolved value, at most 1.4 % measured, with room.
+UNRESOLVED_BAND = 0.05
+
+
+def unresolved_near_zones(nbr: np.ndarray, xy: np.ndarray, step: float, circles) -> np.ndarray:
+    """Boundary nodes closer to a zone's centre than :data:`RESOLVED_ELEMENTS` elements.
+
+    The element length at a node is the longer of its two boundary steps
+    (times ``step``: 2 for quadratic elements, whose mid-nodes halve them).
+    """
+    out = np.zeros(xy.shape[1], dtype=bool)
+    if not circles:
+        return out
+    from scipy.spatial import cKDTree
+
+    lengths = np.zeros(xy.shape[1])
+    for side in (0, 1):
+        j = nbr[side]
+        ok = j >= 0
+        lengths[ok] = np.maximum(lengths[ok], np.hypot(*(xy[:, ok] - xy[:, j[ok]])))
+    dist, _ = cKDTree(np.array([(c[0], c[1]) for c in circles])).query(xy.T)
+    return dist < RESOLVED_ELEMENTS * step * lengths
+
+
+#: Factor on the secant slope in :func:`zone_edge_rise`: the shear next to a corner
+#: grows like ``r^-lambda`` (0 < lambda <= 1/2), steeper toward the zone's edge than
+#: the secant over the two nodes farther out; DEVELOPERS.md, "Peak error estimate".
+ZONE_EDGE_FACTOR = 2.0
+
+
+def zone_edge_rise(nbr: np.ndarray, xy: np.ndarray, tau: np.ndarray, away: np.ndarray,
+                   corner: np.ndarray, circles) -> np.ndarray:
+    """Shear the boundary may reach between the last node read and a zone's edge.
+
+    The reported peak is the largest shear on the boundary outside the zones
+    (``circles``: centre x, y and radius), a closed set whose edge points
+    the nodes do not sample.  Where the largest shear sits on a zone's edge
+    (it rises toward the corner) the node maximum falls short of it by the
+    rise over the gap ``g`` between the last node outside and the edge: a
+    first-order sampling error that both fields share, so their
+    disagreement does not show it.  For each node ``i`` read, whose
+    neighbour along the boundary lies in a zone, the rise is estimated as
+    :data:`ZONE_EDGE_FACTOR` times the secant slope from ``i``'s other
+    neighbour ``k`` times ``g``, when the shear rises from ``k`` to ``i``.
+
+    Returns the estimated shear at the edge for each node (``tau`` where no
+    zone is next to it).
+    """
+    out = np.array(tau, dtype=float)
+    if not circles:
+        return out
+    cxy = np.array([(c[0], c[1]) for c in circles], dtype=float)
+    rad = np.array([c[2] for c in circles], dtype=float)
+    for side in (0, 1):
+        j, k = nbr[side], nbr[1 - side]  # j toward the zone, k the other way
+        i = np.flatnonzero(away & (j >= 0) & (k >= 0))
+        i = i[~away[j[i]] & ~corner[j[i]] & away[k[i]] & ~corner[k[i]]]
+        if not len(i):
+            continue
+        a, b = xy[:, i].T, xy[:, j[i]].T  # node read, node in the zone
+        d = b - a
+        # the first zone circle the step a -> b enters: |a + t d - c| = r, smallest t in [0, 1]
+        f = a[:, None, :] - cxy[None, :, :]
+        qa = np.einsum("ij,ij->i", d, d)[:, None]
+        qb = np.einsum("ij,ikj->ik", d, f)
+        qc = np.einsum("ikj,ikj->ik", f, f) - rad[None, :] ** 2
+        disc = qb**2 - qa * qc
+        t = np.where(disc >= 0.0, (-qb - np.sqrt(np.maximum(disc, 0.0))) / qa, np.inf)
+        t = np.where((t >= 0.0) & (t <= 1.0), t, np.inf).min(axis=1)
+        hit = np.isfinite(t)
+        gap = t * np.sqrt(qa[:, 0])
+        dk = np.hypot(*(xy[:, i] - xy[:, k[i]]))
+        slope = (tau[i] - tau[k[i]]) / np.maximum(dk, 1e-300)
+        up = hit & (slope > 0.0)
+        cand = tau[i] + ZONE_EDGE_FACTOR * slope * np.where(up, gap, 0.0)
+        out[i] = np.maximum(out[i], cand)
+    return out
 
 
 def corner_warnings(corners: tuple[Corner, ...], units: str, zone: float) -> list[str]:
@@ -261,11 +398,18 @@ CROSS_FACTOR = 2.0
 
 
 def peak_cross_error(peak: Peak) -> float:
-    """Twice the largest relative two-field disagreement where the peak could be."""
+    """Local estimate of the peak's relative error on one mesh.
+
+    Twice the largest relative two-field disagreement where the peak could
+    be, plus how far the shear may rise between the nodes read and the edge
+    of a zone left out (:func:`zone_edge_rise`).
+    """
+    if len(peak.unresolved):
+        return float("inf")  # the mesh does not resolve where the peak could be
     cross = abs(peak.value - peak.value_warping) / peak.value
     if len(peak.candidate_error):
         cross = max(cross, float(np.max(peak.candidate_error)))
-    return CROSS_FACTOR * cross
+    return CROSS_FACTOR * cross + peak.zone_edge
 
 
 def order_check_error(mesh: Mesh, fields: TorsionFields, peak: Peak, corners, zone, traced,
@@ -299,6 +443,19 @@ def traced_warnings(peak: Peak, units: str) -> list[str]:
         f"per quarter circle): each point is a corner of the polygon, so the peak may be off the "
         f"curve's value by about {100 * peak.traced_effect:.2g} %. Draw the curve as an arc (DXF "
         f"ARC or polyline bulge) or use a shape file for an exact fillet."
+    ]
+
+
+def unresolved_warnings(peak: Peak, units: str) -> list[str]:
+    """Say so when the mesh cannot tell the peak's error (estimate infinite)."""
+    if not len(peak.unresolved):
+        return []
+    x, y = peak.unresolved[0]
+    return [
+        f"the peak shear's error cannot be estimated on this mesh: the shear at ({x:.5g}, "
+        f"{y:.5g}) {units}, within {100 * UNRESOLVED_BAND:g} % of the peak, is read within "
+        f"{RESOLVED_ELEMENTS:g} elements of a sharp corner or a traced polygon point, where the "
+        f"mesh does not resolve the stress; use --tol (refines there) or a smaller --mesh-size"
     ]
 
 
@@ -357,7 +514,8 @@ def result_from_mesh(
         max_shear_per_torque=peak.value / j,
         peak_location=peak.location,
         warnings=tuple(profile.notes) + tuple(corner_warnings(corners, profile.units, zone))
-        + tuple(traced_warnings(peak, profile.units)) + tuple(bounds_warnings(fields))
+        + tuple(traced_warnings(peak, profile.units)) + tuple(unresolved_warnings(peak, profile.units))
+        + tuple(bounds_warnings(fields))
         + tuple(warnings),
         refinement=tuple(refinement),
         estimated_relative_error=errors,
