@@ -10,6 +10,8 @@ from __future__ import annotations
 
 import contextlib
 import logging
+import math
+from dataclasses import dataclass
 
 import numpy as np
 import scipy.sparse as sp
@@ -17,7 +19,8 @@ import scipy.sparse.linalg as spla
 
 from ..errors import SolveError
 
-__all__ = ["solve_spd", "DIRECT_LIMIT", "one_blas_thread", "fixed_random_state", "AMG_SEED"]
+__all__ = ["solve_spd", "DIRECT_LIMIT", "one_blas_thread", "fixed_random_state", "AMG_SEED", "pcg",
+           "PCGResult", "ENERGY_TOL", "FALLBACK_DIRECT_LIMIT", "cg_or_direct", "amg_hierarchy"]
 
 log = logging.getLogger(__name__)
 
@@ -28,6 +31,144 @@ DIRECT_LIMIT = 20_000
 #: estimate the spectral radius for its Jacobi-smoothed prolongation: fixed, so that
 #: the same matrix gives the same preconditioner and the same bits on every run.
 AMG_SEED = 20_240_611
+
+
+#: Stopping rule of the iterative solves: the estimated energy norm of the algebraic
+#: error, squared, at most this times J.  Both bounds are energy functionals
+#: stationary at the discrete solution, so the algebraic error moves each of them by
+#: exactly that square (J_hi = E(w) = E(w_h) + a(e, e); J_lo likewise): J within
+#: 1e-13 of the tight solve.  The peak is linear in the field: an energy error of
+#: sqrt(1e-13) = 3e-7 of the field's energy, far below any peak tolerance (>= 1e-6).
+ENERGY_TOL = 1e-13
+
+#: Unknowns up to which a solve whose CG stalls is finished by the direct solver
+#: (SuperLU at 346 k quadratic unknowns: about 1.1 GB and 20 s on the 2-core sandbox).
+FALLBACK_DIRECT_LIMIT = 400_000
+
+
+@dataclass(frozen=True)
+class PCGResult:
+    """What a preconditioned CG solve reached.
+
+    ``energy_error`` estimates ``a(e, e)`` of the returned field (the
+    Hestenes-Stiefel terms still to come, as a geometric tail at the observed rate);
+    ``stop`` is "residual", "energy" or "maxiter".
+    """
+
+    x: np.ndarray
+    iterations: int
+    residual: float  # true relative residual ||b - A x|| / ||b||
+    energy_error: float
+    stop: str
+
+
+def pcg(a, b, precond, x0=None, rtol: float = 1e-12, energy_tol: float | str | None = None,
+        maxiter: int = 400, delay: int = 5) -> PCGResult:
+    """Preconditioned conjugate gradients with an estimate of the energy error.
+
+    In exact arithmetic ``||x - x_k||_A^2 = sum_{j >= k} alpha_j (r_j . z_j)``
+    (M. R. Hestenes and E. Stiefel, J. Res. NBS 49 (1952) 409-436; that the sum
+    stays a good estimate in finite precision: Z. Strakos and P. Tichy, ETNA 13
+    (2002) 56-80 - both from memory): the error of the iterate just made is the
+    sum of the terms still to come, extrapolated geometrically from the last one
+    at the slowest single-step rate of the last ``delay`` steps
+    (``tests/test_linsolve.py`` checks it against the true error).  Stops when
+    the relative residual is at most ``rtol`` or the estimated ``a(e, e)`` at
+    most ``energy_tol``: a number, or "bx" for :data:`ENERGY_TOL` times ``b . x``
+    (the stress function's J estimate).
+    """
+    b = np.asarray(b, dtype=np.float64)
+    bn = float(np.linalg.norm(b))
+    x = np.zeros_like(b) if x0 is None else np.array(x0, dtype=np.float64)
+    r = b - a @ x if x0 is not None else b.copy()
+    if bn == 0.0:
+        return PCGResult(np.zeros_like(b), 0, 0.0, 0.0, "residual")
+    z = precond(r)
+    p = z.copy()
+    rz = float(r @ z)
+    terms: list[float] = []
+    est = math.inf
+    stop = "maxiter"
+    k = 0
+    while k < maxiter:
+        k += 1
+        ap = a @ p
+        pap = float(p @ ap)
+        if not pap > 0.0:
+            stop = "breakdown"
+            break
+        alpha = rz / pap
+        x += alpha * p
+        r -= alpha * ap
+        terms.append(alpha * rz)
+        if len(terms) > delay:
+            # the iterate just made has error sum_{j > k} t_j: the tail after the
+            # last term at the slowest single-step rate of the last `delay` steps
+            last = np.asarray(terms[-delay - 1:])
+            with np.errstate(divide="ignore", invalid="ignore"):
+                rate = float(np.max(last[1:] / last[:-1])) if np.all(last[:-1] > 0) else 1.0
+            rate = min(rate, 0.999)
+            est = terms[-1] * rate / (1.0 - rate)
+        if float(np.linalg.norm(r)) <= rtol * bn:
+            stop = "residual"
+            break
+        if energy_tol is not None and est <= (ENERGY_TOL * abs(float(b @ x))
+                                              if energy_tol == "bx" else energy_tol):
+            stop = "energy"
+            break
+        z = precond(r)
+        rz_new = float(r @ z)
+        p = z + (rz_new / rz) * p
+        rz = rz_new
+    res = float(np.linalg.norm(b - a @ x)) / bn
+    return PCGResult(x, k, res, est, stop)
+
+
+#: CG steps after which a solve counts as stalled: three times the usual count
+#: (21 for linear, 34-38 for quadratic elements at a million elements).
+STALL_STEPS = 120
+
+
+def cg_or_direct(a, b, precond, energy_tol: float | str | None, x0=None,
+                 what: str = "AMG-CG") -> np.ndarray:
+    """CG to the energy rule; a stalled solve finished by SuperLU where memory allows.
+
+    Both bounds stay bounds for a stalled field, but its J moves by ``a(e, e)``
+    (1.2e-6 of J on a 1:500 section with slit holes after 400 steps, against a
+    stopping rule of 1e-13) and its peak linearly, so a solve that has not met
+    the rule after :data:`STALL_STEPS` is finished by SuperLU up to
+    :data:`FALLBACK_DIRECT_LIMIT` unknowns (the correction ``A d = b - A x``;
+    that section: 1.4 s direct against 10.5 s of AMG-CG).  Above that CG goes on
+    to 400 steps and the field is kept if its estimated energy error is within
+    ten times the rule; otherwise SolveError.
+    """
+    n = a.shape[0]
+    res = pcg(a, b, precond, x0=x0, energy_tol=energy_tol, maxiter=STALL_STEPS)
+    if res.stop not in ("residual", "energy"):
+        if n <= FALLBACK_DIRECT_LIMIT:
+            log.debug("%s: CG not converged after %d steps (relative residual %.1e, energy "
+                      "error %.1e); finished by SuperLU", what, res.iterations, res.residual,
+                      res.energy_error)
+            return res.x + _direct(sp.csr_matrix(a), b - a @ res.x)
+        res = pcg(a, b, precond, x0=res.x, energy_tol=energy_tol, maxiter=400 - STALL_STEPS)
+    log.debug("%s: %d iterations, stop on %s, relative residual %.1e, energy error %.1e",
+              what, res.iterations, res.stop, res.residual, res.energy_error)
+    if res.stop in ("residual", "energy"):
+        return res.x
+    tol = ENERGY_TOL * abs(float(b @ res.x)) if energy_tol == "bx" else energy_tol
+    if tol is not None and res.energy_error <= 10.0 * tol:
+        log.debug("%s: stalled; field kept (energy error %.1e)", what, res.energy_error)
+        return res.x
+    raise SolveError(
+        f"the iterative solver stopped at relative residual {res.residual:.2e}"
+    )
+
+
+def _direct(a: sp.csr_matrix, b: np.ndarray, ordering: str = "MMD_AT_PLUS_A") -> np.ndarray:
+    """SuperLU in symmetric mode (no pivoting, a minimum-degree ordering of A + A^T)."""
+    lu = spla.splu(a.tocsc(), permc_spec=ordering, diag_pivot_thresh=0.0,
+                   options={"SymmetricMode": True})
+    return lu.solve(np.asarray(b, dtype=np.float64))
 
 
 @contextlib.contextmanager
@@ -61,7 +202,8 @@ def one_blas_thread():
     return threadpool_limits(limits=1, user_api="blas")
 
 
-def solve_spd(a: sp.spmatrix, b: np.ndarray, method: str = "auto", rtol: float = 1e-8):
+def solve_spd(a: sp.spmatrix, b: np.ndarray, method: str = "auto", rtol: float = 1e-12,
+              energy_tol: float | str | None = "bx", x0: np.ndarray | None = None):
     """Solve ``a x = b`` for a sparse SPD matrix (see :func:`_solve_spd`).
 
     BLAS is held to one thread meanwhile: the solvers' dense work is on
@@ -70,22 +212,52 @@ def solve_spd(a: sp.spmatrix, b: np.ndarray, method: str = "auto", rtol: float =
     against 0.18 s for 17k unknowns).
     """
     with one_blas_thread():
-        return _solve_spd(a, b, method, rtol)
+        return _solve_spd(a, b, method, rtol, energy_tol, x0)
 
 
-def _solve_spd(a: sp.spmatrix, b: np.ndarray, method: str, rtol: float):
+def amg_hierarchy(a: sp.csr_matrix, cheap: bool = True, csr: bool = False):
+    """Smoothed-aggregation hierarchy of ``a`` (seeded, coarse levels in CSR).
+
+    ``cheap``: Jacobi-smoothed prolongation without candidate improvement, the
+    cheapest set-up that kept the iteration count of the linear problems
+    (bench_core.py); else pyamg's defaults (the quadratic elements' split-mesh
+    preconditioner).  pyamg keeps the coarse operators in BSR; ``csr`` converts
+    them, which measured no faster (bench_amg_rules.py at 543 k unknowns, BSR
+    against CSR: set-up 1.57 / 1.66 s, 13 CG steps 1.65 / 1.76 s), so it is off.
+    """
+    import pyamg
+
+    opts = dict(improve_candidates=None, smooth=("jacobi", {"omega": 4.0 / 3.0})) if cheap else {}
+    with fixed_random_state():
+        ml = pyamg.smoothed_aggregation_solver(a, symmetry="hermitian", max_coarse=500, **opts)
+    for lev in ml.levels if csr else ():
+        for name in ("A", "P", "R"):
+            m = getattr(lev, name, None)
+            if m is not None and sp.isspmatrix_bsr(m):
+                setattr(lev, name, m.tocsr())
+    return ml
+
+
+def _solve_spd(a: sp.spmatrix, b: np.ndarray, method: str, rtol: float,
+               energy_tol: float | str | None, x0: np.ndarray | None):
     """Solve ``a x = b`` for a sparse SPD matrix.
 
     Parameters
     ----------
     a : sparse matrix, SPD
-    b : ndarray (n,) or (n, k)
+    b : ndarray (n,)
     method : {"auto", "direct", "amg"}
     rtol : float
-        Relative residual for the iterative path.  J enters through energy
-        functionals that are stationary at the solution, so its algebraic error
-        is of the order of rtol squared; the bounds are evaluated with formulas
-        that stay bounds for any approximate field (see ``fem.torsion``).
+        Relative residual at which the iterative path stops in any case.
+    energy_tol : float or "bx", optional
+        The iterative path's stopping rule (:func:`pcg`): the estimated
+        ``a(e, e)`` of the algebraic error at most this.  J enters through
+        energy functionals that are stationary at the solution, so the
+        algebraic error moves each bound by exactly ``a(e, e)``; the bounds are
+        evaluated with formulas that stay bounds for any approximate field (see
+        ``fem.torsion``).
+    x0 : ndarray, optional
+        Starting field of the iterative path (a warm start).
     """
     a = sp.csr_matrix(a)
     n = a.shape[0]
@@ -94,32 +266,11 @@ def _solve_spd(a: sp.spmatrix, b: np.ndarray, method: str, rtol: float):
     if method == "direct":
         # symmetric mode: a minimum-degree ordering of A + A^T and no pivoting, right for SPD
         # matrices and 1.5-2x faster than the general default here
-        lu = spla.splu(a.tocsc(), permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0,
-                       options={"SymmetricMode": True})
-        return lu.solve(np.asarray(b, dtype=np.float64))
+        return _direct(a, b)
     if method != "amg":
         raise ValueError(f"unknown method {method!r}")
-    import pyamg
-
-    # Jacobi-smoothed prolongation without candidate improvement: the cheapest set-up
-    # that kept the iteration count (21 at 1e-8 on a million elements, bench_core.py)
-    with fixed_random_state():
-        ml = pyamg.smoothed_aggregation_solver(
-            a, symmetry="hermitian", max_coarse=500, improve_candidates=None,
-            smooth=("jacobi", {"omega": 4.0 / 3.0}),
-        )
-    cols = b.reshape(n, -1)
-    out = np.empty_like(cols, dtype=np.float64)
-    for j in range(cols.shape[1]):
-        res: list[float] = []
-        bn = np.linalg.norm(cols[:, j])
-        if bn == 0:
-            out[:, j] = 0
-            continue
-        out[:, j] = ml.solve(cols[:, j], tol=rtol, accel="cg", maxiter=400, residuals=res)
-        if res[-1] > 100 * rtol * bn:
-            raise SolveError(
-                f"the iterative solver stopped at relative residual {res[-1] / bn:.2e}"
-            )
-        log.debug("AMG-CG: %d iterations", len(res) - 1)
-    return out.reshape(b.shape)
+    b = np.asarray(b, dtype=np.float64)
+    if not np.any(b):
+        return np.zeros_like(b)
+    ml = amg_hierarchy(a)
+    return cg_or_direct(a, b, ml.aspreconditioner(cycle="V").matvec, energy_tol, x0=x0)

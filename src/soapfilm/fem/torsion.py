@@ -34,7 +34,7 @@ import scipy.sparse as sp
 
 from ..mesh import Mesh
 from . import p1
-from .linsolve import solve_spd
+from .linsolve import ENERGY_TOL, solve_spd
 from .outline import Functional, hole_loop_areas, p1_lower, p1_upper
 
 __all__ = ["TorsionFields", "solve_torsion", "recovered_gradient", "element_indicators",
@@ -99,7 +99,7 @@ def solve_torsion(mesh: Mesh, method: str = "auto") -> TorsionFields:
     b = p1.lumped_load(t, area, n, value=2.0)
     prolong, k_red, b_red = stress_function_system(k, b, marker, mesh.hole_areas)
     nfree = k_red.shape[0] - mesh.nholes
-    x = solve_spd(k_red, b_red, method=method)
+    x = solve_spd(k_red, b_red, method=method, energy_tol="bx")
     phi = prolong @ x
     hole_values = x[nfree:].copy()
     # L(phi) = 4 int(phi) + 4 sum C_k A_k - int |grad phi|^2 is a lower bound on J for
@@ -109,7 +109,9 @@ def solve_torsion(mesh: Mesh, method: str = "auto") -> TorsionFields:
     # ---- warping function: node 0 pinned (fixes the free constant)
     f = p1.coordinate_load(p, t, area, grad, n)
     w = np.zeros(n)
-    w[1:] = solve_spd(k[1:, 1:], f[1:], method=method)
+    # stopping rule on the energy error against J (linsolve.ENERGY_TOL), J from phi
+    w[1:] = solve_spd(k[1:, 1:], f[1:], method=method,
+                      energy_tol=ENERGY_TOL * abs(float(b_red @ x)))
     w -= (p1.lumped_load(t, area, n) @ w) / total  # mean zero
     ixx, iyy, _ = p1.second_moments(p, t, area)
     ip = float(ixx.sum() + iyy.sum())
