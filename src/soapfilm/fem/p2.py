@@ -732,7 +732,8 @@ def _solve_amg_inner(a, a_pre, b, energy_tol, x0=None) -> np.ndarray:
     if not np.any(b):
         return np.zeros_like(b)
     ml = amg_hierarchy(a_pre, cheap=False)
-    return cg_or_direct(a, b, ml.aspreconditioner().matvec, energy_tol, x0=x0, what="P2 AMG-CG")
+    return cg_or_direct(a, b, ml.aspreconditioner().matvec, energy_tol, x0=x0, what="P2 AMG-CG",
+                        rtol=1e-9)
 
 
 def element_indicators(p, t6, area, lgrad, phi, omega, curved: _Curved | None = None) -> np.ndarray:
