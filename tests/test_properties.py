@@ -35,10 +35,15 @@ What must hold, with the outside source of each:
   source).  Different meshes of the same shape give different numbers, so the check
   is that the two certified brackets overlap and the two peaks differ by no more than
   the sum of their estimated errors (``estimated_relative_error["max_shear"]``).
-  The peaks do not always (2 examples in 100 on coarse meshes, 6 in 100 with adaptive
-  solves at tol 1e-2, mostly turned sections: the corner zone follows the bounding box;
-  the benchmark counts them): CI checks the brackets, A and Ip on random sections and
-  keeps the smallest failing peak examples found as strict xfail tests at the end.
+  The benchmark compares the peaks too: before the peak fixes 2-3 examples in 100 failed
+  on coarse meshes and 4-6 in 100 with adaptive solves at tol 1e-2 (the corner zone
+  followed the bounding box; the estimate missed the rise to a zone's edge and meshes
+  that do not resolve the peak beside a corner; a lone 188.7-degree vertex was not
+  zoned); now none (``bench_properties.py --examples 800 --minutes 4 --seed 7``: 362
+  examples, 0 peak failures in 93 coarse moved pairs, 46 scaled copies, 49 adaptive and
+  38 adaptive pairs without sharp corners; worst ratio 0.54).  CI checks the brackets,
+  A and Ip on random sections, and the peaks on the smallest failing examples found,
+  kept as tests at the end.
 - Dimensional analysis (common practice, no source): ``J ~ s^4``, ``tau/T ~ s^-3``,
   ``A ~ s^2``, ``Ip ~ s^4``.  Scaled by a power of two with the mesh scaled too, every
   floating-point operation scales exactly (IEEE 754), so the laws hold to the last
@@ -64,6 +69,7 @@ from hypothesis import strategies as st
 from shapely.geometry import LinearRing, Point, Polygon
 
 from soapfilm import Profile, analyse, result_from_mesh
+from soapfilm.corners import reentrant_corners, traced_runs
 from soapfilm.fem.p2 import solve_torsion_p2
 from soapfilm.mesh import default_mesh_size, mesh_profile
 
@@ -540,7 +546,12 @@ def test_saint_venant_needs_the_filled_outline_with_holes():
 # became rotation-invariant (Profile.diameter) and the estimate took in the rise to a
 # zone's edge and meshes that do not resolve the peak beside a corner (DEVELOPERS.md,
 # "Peak error estimate"); each also checks the coarse result against a finer solve of
-# the same section (tol 1e-4), whose estimate the coarse one must cover with its own.
+# the same section, whose estimate the coarse one must cover with its own.  That
+# reference is solved at tol 1e-3 where the failures it guards against were at the
+# 1e-2 level (each docstring gives the figures): a reference within 1e-3 of the
+# tol-1e-4 value, its estimate under 1e-3, moves the checked ratio by at most 1e-3
+# over the coarse estimate, far below the factors 1.5-27 by which the wrong
+# estimates fell short; it costs 1.2-3 s against 3.7-5.5 s at tol 1e-4.
 
 
 def _peaks_agree(ra, rb) -> None:
@@ -558,7 +569,9 @@ def test_peak_does_not_depend_on_orientation():
     With the zone 2.5 % of the bounding box: tau/T 3.423e-4 (est 0.65 %) and 3.238e-4
     (est 0.52 %), 5.4 % apart, at tol 1e-2.  With 2.5 % of the diameter (the largest
     distance between two outline points, the same turned): 3.2416e-4 (est 0.69 %) and
-    3.2450e-4 (est 0.91 %); at tol 1e-4 both 3.2465e-4.
+    3.2450e-4 (est 0.91 %); at tol 1e-4 both 3.2465e-4.  Reference at tol 1e-3:
+    3.24553e-4 (est 0.098 %, 3e-4 from the tol-1e-4 value); against it the old 5.4 %
+    gap with estimates of 0.5-0.7 % gives a ratio of about 7.
     """
     ell = np.array([[0, 0], [60, 0], [60, 10], [10, 10], [10, 60], [0, 60]], dtype=float)
     prof = Profile.from_loops([ell])
@@ -568,7 +581,7 @@ def test_peak_does_not_depend_on_orientation():
     assert turned.diameter == pytest.approx(60.0 * math.sqrt(2.0), rel=1e-12)
     ra, rb = analyse(prof, tol=1e-2), analyse(turned, tol=1e-2)
     _peaks_agree(ra, rb)
-    _peaks_agree(ra, analyse(prof, tol=1e-4))
+    _peaks_agree(ra, analyse(prof, tol=1e-3))
 
 
 def test_adaptive_peak_beside_a_weak_corner():
@@ -577,14 +590,15 @@ def test_adaptive_peak_beside_a_weak_corner():
     tol 1e-2, 13.5197 at tol 1e-4 - the peak is read on the edge of the corner's zone,
     where the shear rises toward the corner, and the node outside missed that rise.
     After (zone from the diameter, rise to the zone's edge in the estimate): 13.3395
-    (est 0.72 %) and 13.3403 (est 0.74 %); tol 1e-4: 13.3879."""
+    (est 0.72 %) and 13.3403 (est 0.74 %); tol 1e-4: 13.3879.  Reference at tol 1e-3:
+    13.3849 (est 0.048 %); against it the old 13.2776 (est 0.13 %) gives a ratio of 4.5."""
     hexagon = [(0.1443375672974065, 0.25), (-0.2886751345948128, 0.5000000000000001),
                (-0.5773502691896258, 7.07050159149938e-17), (-0.2886751345948132, -0.4999999999999999),
                (0.288675134594813, -0.5), (0.14433756729740646, -3.53525079574969e-17)]
     prof = Profile.from_loops([hexagon])
     ra = analyse(prof, tol=1e-2)
     _peaks_agree(ra, analyse(prof.translated(0.0, 1.0), tol=1e-2))
-    _peaks_agree(ra, analyse(prof, tol=1e-4))
+    _peaks_agree(ra, analyse(prof, tol=1e-3))
 
 
 def test_adaptive_peak_on_a_traced_hole():
@@ -593,7 +607,8 @@ def test_adaptive_peak_on_a_traced_hole():
     47 112.9 (est 0.067 %) at tol 1e-2; tol 1e-4: 47 088.2 (est 6e-5) - read at a
     quarter chord from a traced point with elements a quarter chord long.  After (such
     a mesh has no estimate until refined there): 47 084.0 (est 0.53 %) and 47 104.3
-    (est 0.18 %)."""
+    (est 0.18 %).  Reference at tol 1e-3: 47 088.5 (est 0.074 %; tol 1e-4 now 47 104.3);
+    against it the old 47 701.6 (est 0.78 %) gives a ratio of 1.5."""
     outer = [(-0.003116010182780474, -0.031014496826565124), (-0.01787766912913189, -0.025534241311883425),
              (-0.02967279638913625, -0.009546396561691348), (-0.029105822163858246, 0.011156148485479557),
              (-0.014101456646596884, 0.027798515307626743), (0.0017458548321309926, 0.03112170502670659),
@@ -620,7 +635,7 @@ def test_adaptive_peak_on_a_traced_hole():
     moved = prof.translated(100.0 * prof.size, 84.0886489087334 * prof.size)
     ra = analyse(prof, tol=1e-2)
     _peaks_agree(ra, analyse(moved, tol=1e-2))
-    _peaks_agree(ra, analyse(prof, tol=1e-4))
+    _peaks_agree(ra, analyse(prof, tol=1e-3))
 
 
 def test_single_solve_peak_estimate_covers_another_mesh():
@@ -629,7 +644,9 @@ def test_single_solve_peak_estimate_covers_another_mesh():
     size.  Before: tau/T 724.512 (est 0.128 %) and 730.109 (est 0.103 %); tol 1e-4 gives
     768.03.  The peak is read on the outer face of the ligament, at the edge of the zone
     round a traced point of the hole across it, from elements as long as that distance:
-    the mesh does not resolve it, so the estimate is infinite and a warning says so."""
+    the mesh does not resolve it, so the estimate is infinite and a warning says so.
+    Reference at tol 1e-3: 767.83 (est 0.086 %); against it the old 724.512 (est
+    0.128 %) gives a ratio of 27."""
     outer = [(0.42493549154185417, 0.19253750811260978), (-0.5750645084581457, 0.015413597480223482),
              (0.016297513966328957, -0.038673168851308844), (0.2907800268795524, -1.2665006579535536e-17)]
     hole = [(0.14980437187638485, 0.02958605436399727), (-0.02340174045874785, 0.03959386899269528),
@@ -641,10 +658,42 @@ def test_single_solve_peak_estimate_covers_another_mesh():
     moved = prof.translated(prof.size, 0.0)
     ra, rb = analyse(prof, mesh_size=h, order=2), analyse(moved, mesh_size=h, order=2)
     _peaks_agree(ra, rb)
-    _peaks_agree(ra, analyse(prof, tol=1e-4))
+    _peaks_agree(ra, analyse(prof, tol=1e-3))
     for r in (ra, rb):
         if not math.isfinite(r.estimated_relative_error["max_shear"]):
             assert any("cannot be estimated on this mesh" in w for w in r.warnings)
+
+
+def test_adaptive_peak_beside_a_lone_weak_corner():
+    """From the benchmark (adaptive check, tol 1e-2, 9 000-element cap): a 13-point star
+    10 mm across with a 9-point hole, and the same moved by (0.3, 0.3) sizes.  Its outer
+    loop has a lone re-entrant vertex of 188.7 degrees at (0.557, 1.522): under the
+    sharp-corner tolerance (190) and in no traced run, yet singular (``r^-0.046``,
+    Williams 1952, ``lambda = 1 - pi/alpha``).  Before: tau/T 0.051239 (est 0.62 %) and,
+    the moved copy's refinement reaching that vertex, 0.0513 climbing about 4 % a step
+    to 0.072969 at the cap (est 3.7 %); tol 1e-4: 0.051340.  Now a weak corner, zoned
+    like the points of a concave traced run: 0.051239 and 0.051236 (est 0.63 %)."""
+    outer = [(-4.5281379503186665, 2.304117308524868), (-0.8464685631259719, 0.02276989214603012),
+             (-2.336515192161148, -1.019791436359206), (-2.1833052938307365, -3.1851042698772623),
+             (-0.5434719918127705, -4.325625127313879), (0.43911220618131, -1.247971191071181),
+             (4.384818100153295, -3.555365185265448), (4.786739319444512, -1.1360243777205243),
+             (5.4718620496813335, 1.3880253729217276), (3.0970467863490687, 2.1299400571198728),
+             (0.5573290145541174, 1.5219358411421406), (-0.21076391411160797, 1.4580184323355607),
+             (-1.0358421454733142, 1.7400862190025934)]
+    hole = [(-0.5286489544680701, -0.11174637037527456), (-0.5914108575197148, -1.2144810619393143),
+            (0.10883665013355483, -1.434560254597892), (0.866433443956744, -0.567735792361523),
+            (0.6243326362420919, -0.03347444102126452), (1.1445395858117489, 1.352680510686032),
+            (0.1696146833670566, 1.0202662718451423), (-0.6584117973977085, 1.1743660716171176),
+            (-0.9795455183369327, 0.5487951719546753)]
+    prof = Case(aspect=1.0, size=10.0, gaps=(0.012589254117944303,), loops=[outer, hole]).profile()
+    lone = [r for r in traced_runs(prof) if r.lone]
+    assert any(abs(180.0 - r.turn_deg[0] - 188.7) < 0.05 for r in lone)  # the vertex is a weak corner
+    assert not any(abs(c.angle - 188.7) < 0.05 for c in reentrant_corners(prof))  # and no sharp one
+    moved = moved_profile(prof, False, 0.0, (0.3, 0.3), ([0], [0, 0], [False, False]))
+    ra = analyse(prof, tol=1e-2, order=2, max_elements=BENCH_MAX_ELEMENTS)
+    rb = analyse(moved, tol=1e-2, order=2, max_elements=BENCH_MAX_ELEMENTS)
+    _peaks_agree(ra, rb)
+    _peaks_agree(ra, analyse(prof, tol=1e-4))
 
 
 def test_thin_section_with_slit_holes_solves():

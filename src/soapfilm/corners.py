@@ -16,7 +16,11 @@ A polygon (a point list, a polyline without bulges) has only straight edges,
 so every vertex is a junction.  Where consecutive vertices turn the same way
 by small angles they *trace* a curve (a fillet given as points): those
 vertices are not reported as sharp corners but as a traced curve, with a
-warning when the peak lies there (see :func:`traced_runs`).
+warning when the peak lies there (see :func:`traced_runs`).  A re-entrant
+vertex between two straight edges that is neither a sharp corner nor in such
+a run (a lone turn of 0.01 to 10 degrees) is a *weak corner* all the same:
+:func:`traced_runs` returns it as a run of one vertex, so the peak rule
+treats it as it treats the points of a concave traced curve.
 
 References
 ----------
@@ -36,7 +40,8 @@ from .geometry.edges import junction_corners
 from .profile import Profile
 
 __all__ = ["Corner", "TracedRun", "reentrant_corners", "traced_runs",
-           "DEFAULT_CORNER_TOL_DEG", "CORNER_ZONE_FRACTION", "TRACE_MAX_TURN_DEG"]
+           "DEFAULT_CORNER_TOL_DEG", "CORNER_ZONE_FRACTION", "TRACE_MAX_TURN_DEG",
+           "WEAK_CORNER_MIN_TURN_DEG"]
 
 #: Interior angles above 180 + this many degrees count as sharp re-entrant corners.
 DEFAULT_CORNER_TOL_DEG = 10.0
@@ -49,6 +54,15 @@ CORNER_ZONE_FRACTION = 0.025
 #: Polygon vertices turning by at most this much, next to others turning the same
 #: way, trace a curve (more than 30 degrees a point is no longer a curve drawn in points).
 TRACE_MAX_TURN_DEG = 30.0
+
+#: A lone re-entrant polygon vertex turning by more than this (and not more than
+#: the sharp-corner tolerance) is a weak corner.  The stress there grows like
+#: ``r^-lambda``, ``lambda = turn / (180 + turn)``; a turn of at most 0.01 degree
+#: (``lambda <= 5.6e-5``) raises the value read at the vertex by less than 3.9e-5
+#: per halving of the elements and by less than 8.1e-4 over every mesh the adaptive
+#: loop can make (elements down to 1e-6 of the size): below the default accuracy,
+#: so such a vertex is read as a point of a straight edge (DEVELOPERS.md, "Corners").
+WEAK_CORNER_MIN_TURN_DEG = 0.01
 
 
 @dataclass(frozen=True)
@@ -71,7 +85,8 @@ class TracedRun:
     ``xy`` the vertices (k, 2); ``turn_deg`` their turns (left positive: a
     negative turn is concave, material outside the curve); ``radius`` the mean
     radius of the circles through consecutive vertex triples; ``chord`` the
-    shorter adjacent edge length of each vertex.
+    shorter adjacent edge length of each vertex.  A run of one vertex is a
+    lone weak re-entrant corner (:attr:`lone`), no curve.
     """
 
     loop: int
@@ -88,18 +103,39 @@ class TracedRun:
         return bool(np.mean(self.turn_deg) < 0)
 
     @property
+    def lone(self) -> bool:
+        """A single weak re-entrant vertex, not a curve traced by points."""
+        return len(self.xy) == 1
+
+    @property
+    def exponent(self) -> float:
+        """``lambda`` of the stress ``~ r^-lambda`` at the run's strongest re-entrant point.
+
+        ``1 - pi/alpha`` for the interior angle ``alpha = 180 + turn`` (Williams
+        1952); 0 for a convex run (no singularity).
+        """
+        turn = float(np.max(-self.turn_deg))
+        return turn / (180.0 + turn) if turn > 0 else 0.0
+
+    @property
     def points_per_quarter(self) -> float:
         step = self.step_deg or float(np.mean(np.abs(self.turn_deg)))
         return 90.0 / max(step, 1e-12)
 
 
-def traced_runs(profile: Profile, max_turn_deg: float = TRACE_MAX_TURN_DEG) -> list[TracedRun]:
-    """Runs of straight-edge polygon vertices that trace a curve.
+def traced_runs(profile: Profile, max_turn_deg: float = TRACE_MAX_TURN_DEG,
+                corner_tol_deg: float = DEFAULT_CORNER_TOL_DEG) -> list[TracedRun]:
+    """Runs of straight-edge polygon vertices that trace a curve, and lone weak corners.
 
     A vertex between two straight edges belongs to a run when it turns by
     more than 0.5 and at most ``max_turn_deg`` degrees and a neighbouring
     vertex turns the same way within that range, with adjacent edges no more
     than three times longer than each other (points along one smooth curve).
+
+    Every other vertex between two straight edges that turns re-entrant by
+    more than :data:`WEAK_CORNER_MIN_TURN_DEG` and at most ``corner_tol_deg``
+    (interior angle over 180 and not a sharp corner) is a run of one vertex:
+    a weak corner of the polygon, singular like a concave run's points.
     """
     runs = []
     for k, (loop, tags) in enumerate(zip(profile.loops, profile.edge_curves, strict=True)):
@@ -124,6 +160,11 @@ def traced_runs(profile: Profile, max_turn_deg: float = TRACE_MAX_TURN_DEG) -> l
         before = ends & ~core & np.roll(core, -1) & (sign == sign[nxt])  # i + 1 in a run
         pair = pair | before | np.roll(after, -1)  # link each end to its run (once, no chaining)
         member = pair | np.roll(pair, 1)
+        lone = straight & ~member & (-turn > WEAK_CORNER_MIN_TURN_DEG) & (-turn <= corner_tol_deg)
+        for i in np.flatnonzero(lone):
+            runs.append(TracedRun(k, loop[[i]].copy(), turn[[i]].copy(), float("inf"),
+                                  np.array([min(l_in[i], l_out[i])]), np.array([i]),
+                                  float(abs(turn[i]))))
         if not member.any():
             continue
         # split the members into consecutive runs (cyclically)
@@ -157,8 +198,9 @@ def reentrant_corners(profile: Profile, tol_deg: float = DEFAULT_CORNER_TOL_DEG)
     trace a curve (:func:`traced_runs`), are not corners.
     """
     traced = [np.zeros(len(lp), dtype=bool) for lp in profile.loops]
-    for run in traced_runs(profile):
-        traced[run.loop][run.index] = True
+    for run in traced_runs(profile, corner_tol_deg=tol_deg):
+        if not run.lone:  # a lone weak corner is below tol_deg anyway
+            traced[run.loop][run.index] = True
     found = []
     for k, i, interior in junction_corners(profile, tol_deg):
         if not traced[k][i]:

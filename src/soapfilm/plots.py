@@ -324,8 +324,10 @@ def _wall_profiles(profile: Profile, tri, phi, chords, corners=(), samples: int 
     or end within the zone of a sharp re-entrant corner
     (:func:`soapfilm.solve.corner_zone_radius`, as the peak rule; the stress is
     unbounded there and lines must crowd) are left out, as the peak rule
-    leaves those zones out.  Sampled at ``samples`` points from face to face;
-    points the mesh does not cover (a curve's chord) take the nearest value.
+    leaves those zones out (a weak corner's zone is not: lines crowd there
+    no more than the stress, ``r^-lambda`` with ``lambda`` under 0.053).
+    Sampled at ``samples`` points from face to face; points the mesh does
+    not cover (a curve's chord) take the nearest value.
 
     Returns ``(across (K, S), span (K,), weight (K,), ray length (K,))``.
     """
@@ -691,9 +693,7 @@ def plot_shear(result, ax=None, torque: float | None = None, stress_unit: str = 
     tau = nodal_shear(result)
     mag = np.hypot(tau[0], tau[1]) * scale.factor
     peak = result.max_shear_per_torque * scale.factor
-    from .solve import corner_zone_radius
-
-    drawn, beyond = _against_peak(mesh, t, mag, peak, corners, corner_zone_radius(profile))
+    drawn, beyond = _against_peak(mesh, t, mag, peak, _left_out_zones(profile, corners))
     cmap = matplotlib.colormaps["viridis"].with_extremes(over=OVER_COLOUR)
     pc = ax.tripcolor(tri, drawn, shading="gouraud", cmap=cmap, vmin=0.0, vmax=peak,
                       rasterized=True, zorder=1)
@@ -731,20 +731,35 @@ def plot_shear(result, ax=None, torque: float | None = None, stress_unit: str = 
     return ax
 
 
-def _against_peak(mesh, t, mag, peak: float, corners, zone: float):
+def _left_out_zones(profile: Profile, corners) -> list[tuple[float, float, float]]:
+    """The zones the peak rule leaves out: centre x, y and radius.
+
+    Round each sharp corner (:func:`soapfilm.solve.corner_zone_radius`) and
+    each weak re-entrant corner of a polygon (:func:`soapfilm.solve.weak_corner_zones`).
+    """
+    from .corners import traced_runs
+    from .solve import corner_zone_radius, weak_corner_zones
+
+    zone = corner_zone_radius(profile)
+    wxy, wrad, _ = weak_corner_zones(tuple(traced_runs(profile)), zone, tuple(corners))
+    return [(c.x, c.y, zone) for c in corners] + [
+        (float(x), float(y), float(r)) for (x, y), r in zip(wxy, wrad, strict=True)]
+
+
+def _against_peak(mesh, t, mag, peak: float, zones):
     """The field to draw against a colour scale that ends at the reported peak.
 
-    Away from the sharp corners (outside the zones the peak rule leaves
-    out, ``zone`` from :func:`soapfilm.solve.corner_zone_radius`) the
-    drawn field should not exceed the peak; by how much it does is the
-    recovery's own error, and values within it are drawn at the peak.
-    Returns the field and whether anything is left beyond the peak.
+    Away from the corners (outside the ``zones`` the peak rule leaves out,
+    :func:`_left_out_zones`) the drawn field should not exceed the peak; by
+    how much it does is the recovery's own error, and values within it are
+    drawn at the peak.  Returns the field and whether anything is left
+    beyond the peak.
     """
     used = np.unique(t)
     x, y = mesh.p[0, used], mesh.p[1, used]
     away = np.ones(len(used), dtype=bool)
-    for c in corners:
-        away &= np.hypot(x - c.x, y - c.y) > zone
+    for cx, cy, r in zones:
+        away &= np.hypot(x - cx, y - cy) > r
     vals = mag[used]
     slack = float(vals[away].max()) if away.any() else peak
     slack = max(slack, peak)

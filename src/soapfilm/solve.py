@@ -66,6 +66,7 @@ class Peak:
     candidate_error: np.ndarray = field(default_factory=lambda: np.zeros(0))
     traced: TracedRun | None = None  # the traced curve the peak sits on (polygons only)
     traced_effect: float = 0.0  # how much the polygon's points may move the peak there
+    traced_zone: float = 0.0  # radius of the zone round a lone weak corner the peak is read by
     #: how far (relative to the peak) the shear may rise between the last node read
     #: and the edge of a zone left out (:func:`zone_edge_rise`)
     zone_edge: float = 0.0
@@ -163,6 +164,38 @@ def corner_zone_radius(profile: Profile) -> float:
     return CORNER_ZONE_FRACTION * profile.diameter
 
 
+def weak_corner_zones(traced: tuple[TracedRun, ...], zone: float = 0.0,
+                      corners: tuple[Corner, ...] = ()) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Zones round the weak re-entrant corners of a polygon, left out of the peak.
+
+    Every point of a concave traced run and every lone weak corner (runs of
+    one point, :func:`soapfilm.corners.traced_runs`): the stress there grows
+    like ``r^-lambda`` with ``lambda = turn/(180 + turn)``, without bound but
+    slowly.  The zone's radius is a quarter of the point's shorter chord,
+    where the polygon's stress no longer depends on the mesh (DEVELOPERS.md,
+    "Corners"), and at most ``zone``, a sharp corner's (when given): a weak
+    corner never leaves out more than a sharp one.  A point that is itself a
+    sharp corner (a tolerance under 10 degrees) keeps the sharp corner's zone.
+
+    Returns centres ``(k, 2)``, radii ``(k,)`` and each zone's run (index in ``traced``).
+    """
+    weak = [(i, r) for i, r in enumerate(traced) if r.concave]
+    if not weak:
+        return np.zeros((0, 2)), np.zeros(0), np.zeros(0, dtype=np.int64)
+    wxy = np.concatenate([r.xy for _, r in weak])
+    wrad = 0.25 * np.concatenate([r.chord for _, r in weak])
+    wrun = np.concatenate([np.full(len(r.xy), i) for i, r in weak])
+    if zone > 0.0:
+        wrad = np.minimum(wrad, zone)
+    if corners:
+        sharp = np.array([(c.x, c.y) for c in corners])
+        gap = np.min(np.hypot(wxy[:, None, 0] - sharp[None, :, 0],
+                              wxy[:, None, 1] - sharp[None, :, 1]), axis=1)
+        keep = gap > 0.0
+        wxy, wrad, wrun = wxy[keep], wrad[keep], wrun[keep]
+    return wxy, wrad, wrun
+
+
 def boundary_peak(
     mesh: Mesh,
     fields: TorsionFields,
@@ -182,11 +215,13 @@ def boundary_peak(
 
     A polygon that *traces* a curve (``traced``, from
     :func:`soapfilm.corners.traced_runs`) has a weak corner at each of its
-    points (interior angle 180 + turn, stress ~ r^(-turn/(pi + turn)) there);
-    nodes closer to such a point than a quarter of its shorter chord are left
-    out where the mesh has split the chords (DEVELOPERS.md derives why the
-    chord middles are the polygon's stand-in for the curve), and the peak
-    carries the traced run so the result can warn.
+    points (interior angle 180 + turn, stress ~ r^(-turn/(pi + turn)) there),
+    and so has a lone re-entrant vertex below the sharp-corner tolerance (a
+    run of one point); nodes closer to a weak re-entrant corner than its zone
+    (:func:`weak_corner_zones`) are left out where the mesh has split the
+    chords (DEVELOPERS.md derives why the chord middles are the polygon's
+    stand-in for the curve), and the peak carries the run so the result can
+    warn.
     """
     nodes, tau_phi, tau_w = boundary_shear(mesh, fields)
     xy = fields.p[:, nodes] + fields.origin[:, None]  # input coordinates (P2: midpoints too)
@@ -203,24 +238,28 @@ def boundary_peak(
     if traced:
         from scipy.spatial import cKDTree
 
-        wxy = np.concatenate([r.xy for r in traced])
-        wrad = 0.25 * np.concatenate([r.chord for r in traced])
-        wrun = np.concatenate([np.full(len(r.xy), i) for i, r in enumerate(traced)])
-        concave = np.concatenate([np.full(len(r.xy), r.concave) for r in traced])
+        wxy, wrad, wrun = weak_corner_zones(traced, zone, corners)
         tree = cKDTree(xy.T)
-        inner = tree.query_ball_point(wxy, wrad * (1 - 1e-9), return_length=True)
-        outer = tree.query_ball_point(wxy, 2.0 * wrad, return_length=True)
-        # only the weak re-entrant corners of concave traced curves are singular;
-        # their zones apply where some node lies between a quarter and half a chord
-        # away (else the vertex nodes alone stand for the curve)
-        split = (outer > inner) & concave
-        dist, idx = cKDTree(wxy).query(xy.T)
-        on_run = dist <= 4.0 * wrad[idx] + 1e-12
-        run_of[on_run] = wrun[idx[on_run]]
-        if np.any(split):
-            dist, idx = cKDTree(wxy[split]).query(xy.T)
-            away &= dist >= wrad[split][idx]
-            circles += [(x, y, r) for (x, y), r in zip(wxy[split], wrad[split], strict=True)]
+        # the runs a node is read on (for the warning): within four zone radii of a
+        # point, convex runs' points too
+        pxy = np.concatenate([r.xy for r in traced])
+        prad = 0.25 * np.concatenate([r.chord for r in traced])
+        if zone > 0.0:
+            prad = np.minimum(prad, zone)
+        prun = np.concatenate([np.full(len(r.xy), i) for i, r in enumerate(traced)])
+        dist, idx = cKDTree(pxy).query(xy.T)
+        on_run = dist <= 4.0 * prad[idx] + 1e-12
+        run_of[on_run] = prun[idx[on_run]]
+        if len(wxy):
+            inner = tree.query_ball_point(wxy, wrad * (1 - 1e-9), return_length=True)
+            outer = tree.query_ball_point(wxy, 2.0 * wrad, return_length=True)
+            # a weak corner's zone applies where some node lies between one and two zone
+            # radii away (else the vertex nodes alone stand for the polygon there)
+            split = outer > inner
+            if np.any(split):
+                dist, idx = cKDTree(wxy[split]).query(xy.T)
+                away &= dist >= wrad[split][idx]
+                circles += [(x, y, r) for (x, y), r in zip(wxy[split], wrad[split], strict=True)]
     if not np.any(away):  # degenerate: every boundary node is near a corner
         away[:] = True
         circles = []
@@ -238,13 +277,19 @@ def boundary_peak(
         # the run's points next to the peak: within two of its chords
         reach = 2.0 * float(np.max(run.chord))
         along = (run_of == run_of[i]) & (np.hypot(xy[0] - xy[0, i], xy[1] - xy[1, i]) <= reach)
+        # lone weak corner: the shear grows like r^-lambda toward it, so the value
+        # read at the zone's edge rises by 2^lambda - 1 for each halving of the zone;
         # concave: how much the shear read between the points (outside their zones)
         # varies along the chords next to the peak - the polygon's ripple, which the
         # points' weak corners cause; convex: an inscribed polygon of N sides per turn
         # raises the boundary stress by about 1.4 / N (shared/design.md, measured
         # 0.59 % at N = 256)
-        effect = float(1.0 - np.min(tau_phi[along & away]) / tau_phi[i]) if run.concave else \
-            1.4 * (run.step_deg or float(np.mean(np.abs(run.turn_deg)))) / 360.0
+        if run.lone:
+            effect = 2.0 ** run.exponent - 1.0
+        elif run.concave:
+            effect = float(1.0 - np.min(tau_phi[along & away]) / tau_phi[i])
+        else:
+            effect = 1.4 * (run.step_deg or float(np.mean(np.abs(run.turn_deg)))) / 360.0
     nbr = boundary_neighbours(mesh, fields, nodes)
     rise = zone_edge_rise(nbr, xy, tau_phi, away, np.isin(nodes, bn[corner]), circles)
     step = 2.0 if getattr(fields, "order", 1) == 2 else 1.0  # P2: mid-nodes halve the steps
@@ -265,6 +310,8 @@ def boundary_peak(
         candidate_error=err[cand] / tau_phi[i],
         traced=run,
         traced_effect=effect,
+        traced_zone=0.0 if run is None or not run.lone
+        else min(0.25 * float(run.chord[0]), zone or np.inf),
     )
 
 
@@ -436,6 +483,17 @@ def traced_warnings(peak: Peak, units: str) -> list[str]:
     if run is None:
         return []
     x, y = peak.location
+    if run.lone:
+        (cx, cy), = run.xy
+        return [
+            f"the peak shear lies at ({x:.5g}, {y:.5g}) {units}, next to a weak re-entrant "
+            f"corner at ({cx:.5g}, {cy:.5g}) {units} (interior angle {180.0 - run.turn_deg[0]:.1f} "
+            f"deg, under the sharp-corner tolerance): the shear there is unbounded but grows "
+            f"slowly (r^-{run.exponent:.2g}), so the peak reported is the largest at least "
+            f"{peak.traced_zone:.3g} {units} from it and would be about "
+            f"{100 * peak.traced_effect:.2g} % higher for each halving of that distance; model "
+            f"the real fillet or the straight edge it stands for."
+        ]
     kind = "concave" if run.concave else "convex"
     return [
         f"the peak shear lies at ({x:.5g}, {y:.5g}) {units}, on a {kind} curve of radius about "
@@ -454,7 +512,7 @@ def unresolved_warnings(peak: Peak, units: str) -> list[str]:
     return [
         f"the peak shear's error cannot be estimated on this mesh: the shear at ({x:.5g}, "
         f"{y:.5g}) {units}, within {100 * UNRESOLVED_BAND:g} % of the peak, is read within "
-        f"{RESOLVED_ELEMENTS:g} elements of a sharp corner or a traced polygon point, where the "
+        f"{RESOLVED_ELEMENTS:g} elements of a sharp corner or a weak corner of the polygon, where the "
         f"mesh does not resolve the stress; use --tol (refines there) or a smaller --mesh-size"
     ]
 
