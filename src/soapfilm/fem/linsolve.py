@@ -11,6 +11,7 @@ from __future__ import annotations
 import contextlib
 import logging
 import math
+import threading
 from dataclasses import dataclass
 
 import numpy as np
@@ -165,9 +166,19 @@ def cg_or_direct(a, b, precond, energy_tol: float | str | None, x0=None,
     )
 
 
+#: SuperLU's supernode settings: no relaxed supernodes (``relax`` 1) and panels of 4
+#: columns.  On the keyed shaft's quadratic systems (CPU time, min of 5) they factorise
+#: 6 k unknowns in 19-27 ms against 26-33 ms with scipy's defaults, 14 k in 64-93 ms
+#: against 111-114 ms, 35 k in 0.30-0.37 s against 0.35-0.73 s and 139 k (the size of
+#: a stalled CG's fallback) in 2.1 s against 18.3 s; the same ordering, so the same fill
+#: (DEVELOPERS.md, "Core").
+SUPERLU_RELAX, SUPERLU_PANEL = 1, 4
+
+
 def _direct(a: sp.csr_matrix, b: np.ndarray, ordering: str = "MMD_AT_PLUS_A") -> np.ndarray:
     """SuperLU in symmetric mode (no pivoting, a minimum-degree ordering of A + A^T)."""
     lu = spla.splu(a.tocsc(), permc_spec=ordering, diag_pivot_thresh=0.0,
+                   relax=SUPERLU_RELAX, panel_size=SUPERLU_PANEL,
                    options={"SymmetricMode": True})
     return lu.solve(np.asarray(b, dtype=np.float64))
 
@@ -188,6 +199,12 @@ def fixed_random_state(seed: int = AMG_SEED):
         np.random.set_state(state)
 
 
+_blas_lock = threading.Lock()
+_blas_depth = 0
+_blas_limiter = None
+
+
+@contextlib.contextmanager
 def one_blas_thread():
     """Context holding BLAS to one thread: reductions then sum in one fixed order.
 
@@ -197,10 +214,27 @@ def one_blas_thread():
     this one (measured: up to 2e-14 apart).  The solves already ran on one
     thread for speed (see :func:`solve_spd`); the whole analysis now does
     (``soapfilm.solve.analyse`` and ``result_from_mesh``).
-    """
-    from threadpoolctl import threadpool_limits
 
-    return threadpool_limits(limits=1, user_api="blas")
+    Nested uses (an analysis, its solves) share the outermost limit: setting it
+    scans the loaded libraries, which took 4 % of a batch job when every solve
+    did it anew (DEVELOPERS.md, "Batch throughput"); the limit is lifted when
+    the outermost use ends, in whichever thread.
+    """
+    global _blas_depth, _blas_limiter
+    with _blas_lock:
+        if _blas_depth == 0:
+            from threadpoolctl import threadpool_limits
+
+            _blas_limiter = threadpool_limits(limits=1, user_api="blas")
+        _blas_depth += 1
+    try:
+        yield
+    finally:
+        with _blas_lock:
+            _blas_depth -= 1
+            if _blas_depth == 0:
+                _blas_limiter.restore_original_limits()
+                _blas_limiter = None
 
 
 def solve_spd(a: sp.spmatrix, b: np.ndarray, method: str = "auto", rtol: float = 1e-8,
