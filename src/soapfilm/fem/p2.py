@@ -401,15 +401,21 @@ def _jacobian_lower_bound(xe: np.ndarray) -> np.ndarray:
     return np.minimum(det[:3].min(axis=0), edge.min(axis=0))
 
 
-def _element_stiffness(area: np.ndarray, lgrad: np.ndarray) -> np.ndarray:
-    """Element stiffness matrices ``(6, 6, M)`` of affine elements (exact, degree-2 integrand)."""
-    g = basis_gradients(QUAD_BARY, lgrad)  # (2, 6, q, M)
+def _element_stiffness(area: np.ndarray, lgrad: np.ndarray, g: np.ndarray | None = None
+                       ) -> np.ndarray:
+    """Element stiffness matrices ``(6, 6, M)`` of affine elements (exact, degree-2 integrand).
+
+    ``g``: :func:`basis_gradients` at :data:`QUAD_BARY`, if the caller has them.
+    """
+    if g is None:
+        g = basis_gradients(QUAD_BARY, lgrad)  # (2, 6, q, M)
     return np.einsum("ciqe,cjqe,q->ije", g, g, QUAD_WEIGHTS) * area
 
 
-def _element_load(p6, t6, area, lgrad) -> np.ndarray:
+def _element_load(p6, t6, area, lgrad, g: np.ndarray | None = None) -> np.ndarray:
     """``int_e (y dN_i/dx - x dN_i/dy)`` per affine element ``(6, M)``, exact (degree 2)."""
-    g = basis_gradients(QUAD_BARY, lgrad)  # (2, 6, q, M)
+    if g is None:
+        g = basis_gradients(QUAD_BARY, lgrad)  # (2, 6, q, M)
     x, y = _points(p6, t6, QUAD_BARY)  # (q, M)
     return np.einsum("iqe,q->ie", y * g[0] - x * g[1], QUAD_WEIGHTS) * area
 
@@ -447,9 +453,13 @@ def coordinate_load(p6, t6, area, lgrad, n: int) -> np.ndarray:
     return np.bincount(t6.ravel(), weights=fe.ravel(), minlength=n)
 
 
-def _gradient_at(t6, lgrad, u, bary) -> np.ndarray:
-    """Gradient ``(2, npts, M)`` of the P2 field ``u`` at barycentric points (affine elements)."""
-    g = basis_gradients(bary, lgrad)
+def _gradient_at(t6, lgrad, u, bary, g: np.ndarray | None = None) -> np.ndarray:
+    """Gradient ``(2, npts, M)`` of the P2 field ``u`` at barycentric points (affine elements).
+
+    ``g``: :func:`basis_gradients` at ``bary``, if the caller has them.
+    """
+    if g is None:
+        g = basis_gradients(bary, lgrad)
     return np.einsum("ciqe,ie->cqe", g, u[t6])
 
 
@@ -632,9 +642,12 @@ def solve_torsion_p2(mesh: Mesh, method: str = "auto", nodes: P2Nodes | None = N
 
     # element matrices and loads: exact on the affine elements, then the curved
     # ones replaced by their isoparametric values
-    ke = _element_stiffness(area, lgrad)
+    # the basis gradients at the quadrature points, once per mesh: stiffness, load and
+    # the indicators use the same
+    gq = basis_gradients(QUAD_BARY, lgrad)
+    ke = _element_stiffness(area, lgrad, gq)
     me = _MASS[:, None] * area
-    fe = _element_load(p, t6, area, lgrad)
+    fe = _element_load(p, t6, area, lgrad, gq)
     ixx, iyy, _ = p1.second_moments(p, t, area)
     r2 = ixx + iyy
     if cu is not None:
@@ -686,7 +699,7 @@ def solve_torsion_p2(mesh: Mesh, method: str = "auto", nodes: P2Nodes | None = N
     hterm, herr, _ = _hole_term(mesh, nodes, p, hole_values)
     lower, upper = _functionals(*shares, hterm, herr)
     j_lo, j_hi = lower.value, upper.value
-    eta2 = element_indicators(p, t6, area, lgrad, phi, w, curved=cu)
+    eta2 = element_indicators(p, t6, area, lgrad, phi, w, curved=cu, g=gq)
     fields = P2Fields(
         origin=origin,
         p=p,
@@ -736,7 +749,8 @@ def _solve_amg_inner(a, a_pre, b, energy_tol, x0=None) -> np.ndarray:
                         rtol=1e-9)
 
 
-def element_indicators(p, t6, area, lgrad, phi, omega, curved: _Curved | None = None) -> np.ndarray:
+def element_indicators(p, t6, area, lgrad, phi, omega, curved: _Curved | None = None,
+                       g: np.ndarray | None = None) -> np.ndarray:
     """``eta_e^2 = int_e |tau_w - tau_phi|^2``.
 
     ``tau_phi = (dphi/dy, -dphi/dx)`` and ``tau_w = (domega/dx - y,
@@ -744,8 +758,10 @@ def element_indicators(p, t6, area, lgrad, phi, omega, curved: _Curved | None = 
     ones with the rule their stiffness uses, so that the sum equals
     ``J_hi - J_lo`` of the same discrete problems to rounding.
     """
-    gphi = _gradient_at(t6, lgrad, phi, QUAD_BARY)  # (2, q, M)
-    gw = _gradient_at(t6, lgrad, omega, QUAD_BARY)
+    if g is None:
+        g = basis_gradients(QUAD_BARY, lgrad)
+    gphi = _gradient_at(t6, lgrad, phi, QUAD_BARY, g)  # (2, q, M)
+    gw = _gradient_at(t6, lgrad, omega, QUAD_BARY, g)
     x, y = _points(p, t6, QUAD_BARY)
     d0 = gw[0] - y - gphi[1]
     d1 = gw[1] + x + gphi[0]

@@ -308,8 +308,11 @@ def resampled_loop(xy: np.ndarray, edge_curve: np.ndarray, curves: Sequence[Curv
             continue  # the run's points do not follow the curve in order: keep them as they are
         # fine parameter grid along the run for arc length and turning
         sub = 16
-        tf = np.concatenate([np.linspace(tv[k], tv[k + 1], sub, endpoint=False)
-                             for k in range(count)] + [tv[-1:]])
+        # np.linspace(tv[k], tv[k + 1], sub, endpoint=False) for every k at once (the
+        # same operations: j * ((b - a) / sub) + a); one call per vertex was 65 ms of a
+        # keyed shaft's start
+        frac = np.arange(sub, dtype=float)[None, :] * (np.diff(tv) / sub)[:, None]
+        tf = np.concatenate([(frac + tv[:-1, None]).ravel(), tv[-1:]])
         tf, pf, d, turn = _fine_grid(cv, tf, max_turn)
         ds = np.hypot(*d.T)
         turn = np.concatenate([turn[:1], 0.5 * (turn[1:] + turn[:-1]), turn[-1:]]) \
