@@ -316,22 +316,27 @@ def _shaft(tmp_path, **kw):
 SHAFT_CASES = {
     # the issue's cases
     "section_units_list": (dict(top='section_units = ["mm"]'),
-                           r"key 'section_units': is an array, but section_units must be text"),
-    "name_list": (dict(top='name = ["drive"]'), r"key 'name': is an array"),
+                           r"key 'section_units': is an array, but section_units must be text "
+                           r"in quotes \(write section_units = \"mm\"\)$"),
+    "name_list": (dict(top='name = ["drive"]'),
+                  r"key 'name': is an array.*\(write name = \"drive\"\)$"),
     "segment_length_tiny": (dict(length='"1e-300 mm"'),
                             r"segment 1 key 'length': '1e-300 mm' is outside the range"),
-    # kin: every key of the wrong TOML type names the key
-    "description_int": (dict(top="description = 5"), r"key 'description': is an integer"),
+    # kin: every key of the wrong TOML type names the key and how to write it
+    "description_int": (dict(top="description = 5"),
+                        r"key 'description': is an integer.*\(write description = \"...\"\)$"),
     "twist_rule_int": (dict(top="twist_rule = 3"), r"key 'twist_rule': is an integer"),
-    "twist_limit_table": (dict(top="twist_limit = { a = 1 }"), r"key 'twist_limit': is a table"),
-    "segment_name_list": (dict(seg='name = ["x"]'), r"segment 1 key 'name': is an array"),
+    "twist_limit_table": (dict(top="twist_limit = { a = 1 }"), r"key 'twist_limit': is a table.*"
+                          r"\(write twist_limit = \"<number> <unit>\"\)$"),
+    "segment_name_list": (dict(seg='name = ["x"]'), r"segment 1 key 'name': is an array.*"
+                          r"\(write name = \"x\"\)$"),
     "segment_material_int": (dict(seg="material = 5"), r"segment 1 key 'material': is an integer"),
-    "length_bool": (dict(length="true"), r"key 'length': is true/false"),
+    "length_bool": (dict(length="true"), r"key 'length': is true/false.*\(write length = \""),
     "length_date": (dict(length="1979-05-27"), r"key 'length': is a date or time"),
     "load_name_int": (dict(load="name = 5"), r"load 1 key 'name': is an integer"),
     "load_name_table": (dict(load="name = { a = 1 }"), r"load 1 key 'name': is a table"),
     "section_units_in_section": (dict(section_extra=', units = ["mm"]'),
-                                 r"key 'units': is an array"),
+                                 r"key 'units': is an array.*\(write units = \"mm\"\)$"),
     # hostile values
     "diameter_tiny": (dict(diameter='"1e-300 mm"'), r"key 'diameter': '1e-300 mm' is outside"),
     "diameter_negative": (dict(diameter='"-40 mm"'), r"key 'diameter': '-40 mm' is negative"),
@@ -364,7 +369,27 @@ def test_bad_shaft_files(tmp_path, capsys, case):
     import re
 
     assert re.search(message, err), err
+    assert re.search(r" \([^()]+\)$", err), err  # every refusal ends with what to do
     assert not out.exists()
+
+
+@pytest.mark.parametrize(("text", "hint"), [
+    ('section = 5\n', "write [section] on a line of its own"),
+    ('part = 5\n', "write [[part]] on a line of its own"),
+    ('part = [5]\n', "write [[part]] on a line of its own"),
+    ('mesh = 5\n[section]\nkind = "round"\ndiameter = 10\n', "write [mesh] on a line of its own"),
+    ('units = ["mm"]\n[section]\nkind = "round"\ndiameter = 10\n', 'write e.g. units = "mm"'),
+    ('[section]\nkind = "round"\ndiameter = [10]\n', "write e.g. diameter = 12.5"),
+    ('[section]\nkind = "outline"\npoints = [[0, 0], [9, 0], [9, 9]]\nholes = 5\n',
+     "write e.g. holes = [["),
+])
+def test_shape_file_keys_of_the_wrong_type_say_how_to_write_them(tmp_path, capsys, text, hint):
+    """A shape-file table or key of the wrong TOML type: one line ending in how to write it."""
+    path = tmp_path / "wrong.toml"
+    path.write_text(text)
+    assert main(["solve", str(path), "--quiet"]) == 2
+    err = _one_line_error(capsys)
+    assert hint in err and err.rstrip().endswith(")"), err
 
 
 @pytest.mark.parametrize(("value", "message"), [("true", "is true/false"),

@@ -100,7 +100,36 @@ def _check_keys(table: dict, allowed: dict, where: str) -> None:
             if types == _QUANTITY:
                 words = 'text with a unit (e.g. "40 mm") or a bare number'
             raise InputError(f"is {_toml_type(value)}, but {key} must be {words}",
-                             where=f"{where} key '{key}'")
+                             where=f"{where} key '{key}'", fix=_type_fix(key, value, types))
+
+
+def _type_fix(key: str, value, types) -> str:
+    """How to write ``key`` with a TOML type it takes: the value itself when it fits.
+
+    A one-item array of the right type (``section_units = ["mm"]``) becomes that item
+    (``section_units = "mm"``).
+    """
+    item = value[0] if isinstance(value, list) and len(value) == 1 else None
+    if item is not None and not isinstance(item, bool) and isinstance(item, types):
+        return f"write {key} = {_toml_value(item)}"
+    if types == _QUANTITY:
+        return f'write {key} = "<number> <unit>"'
+    if float in types:
+        return f"write {key} = <number>, no quotes"
+    if str in types:
+        return f'write {key} = "..."'
+    if dict in types and list in types:
+        return f"write [[{key}]] tables"
+    if dict in types:
+        return f"write [{key}] as a table"
+    return f"write {key} = [...]"
+
+
+def _toml_value(value) -> str:
+    """A short TOML spelling of a text or a number (for a fix hint)."""
+    if isinstance(value, str):
+        return '"' + value[:40].replace("\\", "\\\\").replace('"', '\\"') + '"'
+    return repr(value)
 
 
 # --------------------------------------------------------------------------- sections

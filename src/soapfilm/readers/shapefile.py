@@ -97,7 +97,8 @@ def _unknown(key: str, allowed, where: str) -> InputError:
 def _table(doc: dict, key: str, allowed: dict, where: str) -> dict:
     tab = doc.get(key, {})
     if not isinstance(tab, dict):
-        raise InputError(f"{key!r} must be a table [{key}]", where=where)
+        raise InputError(f"{key!r} must be a table [{key}]", where=where,
+                         fix=f"write [{key}] on a line of its own, its keys below it")
     for k in tab:
         if k not in allowed:
             raise _unknown(k, allowed, f"{where} [{key}]")
@@ -145,7 +146,9 @@ def _points(value, name: str, where: str) -> list[tuple[float, float]]:
 def _part(tab, where: str, base: Path, units: str, chord: float | None,
           composite: bool) -> Profile:
     if not isinstance(tab, dict):
-        raise InputError("must be a table of keys", where=where)
+        raise InputError("must be a table of keys", where=where,
+                         fix='write [[part]] on a line of its own, its keys below it, '
+                             'e.g. kind = "round"')
     if "kind" not in tab:
         raise InputError("kind is missing", where=where,
                          fix="add e.g. kind = \"round\" ('soapfilm shapes' lists the kinds)")
@@ -166,7 +169,8 @@ def _part(tab, where: str, base: Path, units: str, chord: float | None,
             loops = [_points(dims["points"], "points", where)]
             holes = dims.get("holes", [])
             if not isinstance(holes, list):
-                raise InputError("holes must be a list of point lists", where=where)
+                raise InputError("holes must be a list of point lists", where=where,
+                                 fix="write e.g. holes = [[[2, 2], [4, 2], [4, 4]]]")
             loops += [_points(h, f"holes[{i + 1}]", where) for i, h in enumerate(holes)]
             labels = [f"{where} points"] + [f"{where} holes[{i}]" for i in range(1, len(loops))]
             prof = Profile.from_loops(loops, units=units, name="outline", labels=labels)
@@ -317,12 +321,16 @@ def shapefile_from_document(doc: dict, path, units: str | None = None) -> ShapeF
     base = path.parent
     if has_section:
         if not isinstance(doc["section"], dict):
-            raise InputError("section must be a table [section]", where=where)
+            raise InputError("section must be a table [section]", where=where,
+                             fix='write [section] on a line of its own, its keys below it, '
+                                 'e.g. kind = "round"')
         prof = _part(doc["section"], f"{where} [section]", base, u, chord, composite=False)
     else:
         parts = doc["part"]
         if not isinstance(parts, list) or not parts:
-            raise InputError("part must be a list of [[part]] tables", where=where)
+            raise InputError("part must be a list of [[part]] tables", where=where,
+                             fix='write [[part]] on a line of its own before each part\'s keys, '
+                                 'e.g. kind = "round"')
         geom: Polygon | None = None
         used: list[Profile] = []
         for i, tab in enumerate(parts, start=1):
