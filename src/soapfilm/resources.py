@@ -477,9 +477,9 @@ def _refuse(est: MeshEstimate, profile, budget: int, where: str | None):
     if features < 0.5 * cap:
         # the element size decides: the smallest size that fits beside the features
         h_min = size * math.sqrt(est.area_term / max(cap - features, 1.0)) * 1.01
-        h_txt = f"{_up(h_min):g} {u}"
+        h_txt = f"{_up(h_min):g}"  # a bare number is in the section's unit, wherever given
         raise InputError(f"element size {size:.3g} {u}: {need}", where=where,
-                         fix=f"use an element size of at least {h_txt}: "
+                         fix=f"use an element size of at least {h_txt} {u}: "
                              f"{option_hint('mesh_size', h_txt)}{more}")
     if est.thin_term >= est.points_term:
         x, y = est.narrowest_at
@@ -489,9 +489,15 @@ def _refuse(est: MeshEstimate, profile, budget: int, where: str | None):
             f"as that, so {need}", where=where,
             fix=f"widen that part or remove it from the drawing{more}")
     if est.closest_points >= size:  # points the curves would get at this size
+        # both terms scale with the size (area as 1/h^2, the curves' points as 1/h): the
+        # size at which they fit, 1/h the positive root of area h^2 x^2 + points h x = cap
+        qa, qb = est.area_term * size * size, est.points_term * size
+        x = 2.0 * cap / (qb + math.sqrt(qb * qb + 4.0 * qa * cap)) if cap > 0 else 0.0
+        h_txt = f"{_up(1.01 / x):g}" if x > 0 else "H"
         raise InputError(f"element size {size:.3g} {u} would put about {est.points_term:.2g} "
                          f"points on the section's curves: {need}", where=where,
-                         fix=f"use a larger element size: {option_hint('mesh_size', 'H')}{more}")
+                         fix=f"use an element size of at least {h_txt} {u}: "
+                             f"{option_hint('mesh_size', h_txt)}{more}")
     raise InputError(
         f"the outline has {est.points:,} points, as close as {est.closest_points:.3g} {u}: "
         f"elements must be as small as the distance between points, so {need}", where=where,
