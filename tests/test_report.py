@@ -117,7 +117,11 @@ def test_report_content(report_text):
 
 
 def test_report_without_history_or_warnings():
-    text = html.unescape(render_report(rect_result()))
+    one_mesh = rect_result()
+    # a single solve carries one notice: its peak estimate comes from one mesh
+    assert len(one_mesh.warnings) == 1 and "one mesh" in one_mesh.warnings[0]
+    assert "comes from this one mesh" in html.unescape(render_report(one_mesh))
+    text = html.unescape(render_report(dataclasses.replace(one_mesh, warnings=())))
     assert "no adaptive refinement" in text and "No warnings." in text
     assert "Shaft check" not in text
     assert CAUTION in text
