@@ -13,8 +13,7 @@ shapely and the mesher until a section is actually read or solved.
 
 from __future__ import annotations
 
-import importlib
-
+from ._lazy import lazy_names
 from .defaults import LENGTH_UNITS, VERSION
 from .errors import GeometryError, InputError, SoapfilmError, SolveError
 
@@ -49,14 +48,4 @@ __all__ = [
 ]
 
 
-def __getattr__(name: str):
-    module = _LAZY.get(name)
-    if module is None:
-        raise AttributeError(f"module 'soapfilm' has no attribute {name!r}")
-    value = getattr(importlib.import_module(f".{module}", __name__), name)
-    globals()[name] = value
-    return value
-
-
-def __dir__():
-    return sorted(set(globals()) | set(__all__))
+__getattr__, __dir__ = lazy_names(__name__, _LAZY, __all__, globals())

@@ -16,7 +16,7 @@ the curves of their parts.
 1200.3
 """
 
-import importlib
+from .._lazy import lazy_names
 
 #: public name -> module of this package that defines it, imported on first use
 #: (PEP 562): ``soapfilm shapes`` lists the registry without numpy or shapely
@@ -60,14 +60,4 @@ __all__ = [
 ]
 
 
-def __getattr__(name: str):
-    module = _LAZY.get(name)
-    if module is None:
-        raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
-    value = getattr(importlib.import_module(f".{module}", __name__), name)
-    globals()[name] = value
-    return value
-
-
-def __dir__():
-    return sorted(set(globals()) | set(__all__))
+__getattr__, __dir__ = lazy_names(__name__, _LAZY, __all__, globals())
