@@ -237,7 +237,7 @@ def _starting_mesh(profile: Profile, mesh_size: float | None, max_elements: int,
     line.  The bracket of any start is guaranteed, and the loop's stop at the
     cap says so in a warning.
     """
-    from .resources import KAPPA_AREA, estimate_mesh
+    from .resources import KAPPA_AREA, curved_length, estimate_mesh, size_for_count
 
     if mesh_size is not None:
         mesh = mesh_profile(profile, mesh_size, memory=memory)
@@ -251,11 +251,8 @@ def _starting_mesh(profile: Profile, mesh_size: float | None, max_elements: int,
     target = 0.5 * max_elements
     # first the cheap lower bound of the count (area, and the curves' points, as
     # resources.precheck_mesh): no resampling of the curves at a size the cap excludes
-    curved = sum(float(np.sum(np.hypot(*np.diff(np.vstack([xy, xy[:1]]), axis=0)[
-        np.asarray(tags) >= 0].T))) for xy, tags in zip(profile.loops, profile.edge_curves,
-                                                          strict=True))
-    kappa_a = KAPPA_AREA * float(profile.area)
-    size = max(size, (curved + np.sqrt(curved**2 + 4.0 * target * kappa_a)) / (2.0 * target))
+    size = max(size, size_for_count(KAPPA_AREA * float(profile.area), curved_length(profile),
+                                    target))
     est = estimate_mesh(profile, size)
     if est.elements > target:  # the area term falls as 1/size^2, the features' terms do not
         room = target - est.thin_term - est.points_term

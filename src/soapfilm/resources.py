@@ -419,6 +419,32 @@ def _ray_hit(o, d, a, b):
     return out
 
 
+def curved_length(profile) -> float:
+    """Length of the outline's edges that lie on curves (the polygon's chords)."""
+    import numpy as np
+
+    total = 0.0
+    for xy, tags in zip(profile.loops, profile.edge_curves, strict=True):
+        on = np.asarray(tags) >= 0
+        if np.any(on):
+            d = np.diff(np.vstack([xy, xy[:1]]), axis=0)[on]
+            total += float(np.sum(np.hypot(d[:, 0], d[:, 1])))
+    return total
+
+
+def size_for_count(area_coef: float, curve_coef: float, count: float) -> float:
+    """Element size h at which ``area_coef / h^2 + curve_coef / h = count``.
+
+    The area term of the estimate falls as 1/h^2, the curves' points as 1/h;
+    1/h is the positive root of the quadratic (written without cancellation).
+    Infinite when ``count`` is not positive.
+    """
+    if count <= 0:
+        return math.inf
+    return (curve_coef + math.sqrt(curve_coef * curve_coef + 4.0 * area_coef * count)) \
+        / (2.0 * count)
+
+
 # ---------------------------------------------------------------------- check
 def precheck_mesh(profile, size: float, memory=None, where: str | None = None) -> None:
     """The cheap part of :func:`check_mesh`, before the curves are resampled at ``size``.
@@ -428,16 +454,10 @@ def precheck_mesh(profile, size: float, memory=None, where: str | None = None) -
     of the mesh; a size so small that resampling itself would exhaust memory
     is refused here.
     """
-    import numpy as np
 
     budget = memory_budget(memory)
     h = float(size)
-    curved = 0.0
-    for xy, tags in zip(profile.loops, profile.edge_curves, strict=True):
-        on = np.asarray(tags) >= 0
-        if np.any(on):
-            d = np.diff(np.vstack([xy, xy[:1]]), axis=0)[on]
-            curved += float(np.sum(np.hypot(d[:, 0], d[:, 1])))
+    curved = curved_length(profile)
     area_term = KAPPA_AREA * max(float(profile.area), 0.0) / (h * h)
     est = MeshEstimate(elements=area_term + curved / h, area_term=area_term, thin_term=0.0,
                        points_term=curved / h, size=h,
@@ -491,9 +511,8 @@ def _refuse(est: MeshEstimate, profile, budget: int, where: str | None):
     if est.closest_points >= size:  # points the curves would get at this size
         # both terms scale with the size (area as 1/h^2, the curves' points as 1/h): the
         # size at which they fit, 1/h the positive root of area h^2 x^2 + points h x = cap
-        qa, qb = est.area_term * size * size, est.points_term * size
-        x = 2.0 * cap / (qb + math.sqrt(qb * qb + 4.0 * qa * cap)) if cap > 0 else 0.0
-        h_txt = f"{_up(1.01 / x):g}" if x > 0 else "H"
+        h_fit = size_for_count(est.area_term * size * size, est.points_term * size, cap)
+        h_txt = f"{_up(1.01 * h_fit):g}" if math.isfinite(h_fit) else "H"
         raise InputError(f"element size {size:.3g} {u} would put about {est.points_term:.2g} "
                          f"points on the section's curves: {need}", where=where,
                          fix=f"use an element size of at least {h_txt} {u}: "
