@@ -287,7 +287,7 @@ def test_inline_outline_and_section_cache(tmp_path, square):
     """A shaft with an inline square outline and the same point-list file used twice:
     J of the square against the exact series (Timoshenko & Goodier, 3rd ed., sec. 109,
     0.1 % covers the solver's bracket); the file is analysed once (cache by path)."""
-    from soapfilm.shaftfile import SectionSource, read_shaft
+    from soapfilm.members.shaftfile import SectionSource, read_shaft
 
     f = _write(tmp_path, f"""
         name = "square drive"
@@ -322,7 +322,7 @@ def test_nominal_diameter_hook_for_shape_files(tmp_path):
     """Round-based parametric kinds with a stress raiser give their own nominal diameter for
     Kts: keyed shafts their diameter, splines their minor (root) diameter, here the ISO
     4156-1 external minor diameter m (z - 1.5) of a 30 deg flat root; a plain tube none."""
-    from soapfilm.shaftfile import shapefile_nominal_diameter
+    from soapfilm.members.shaftfile import shapefile_nominal_diameter
 
     keyed = tmp_path / "k.toml"
     keyed.write_text('units = "mm"\n[section]\nkind = "keyed_shaft"\ndiameter = 40\n')

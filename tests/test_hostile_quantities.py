@@ -117,7 +117,7 @@ def test_spellings_read_right(text, kind, si, rtol):
 def test_twist_basis_per_length():
     """The length a twist limit is written per (foot 0.3048 m and inch 0.0254 m exact,
     NIST SP 811 B.8)."""
-    from soapfilm.shaftfile import twist_basis_of
+    from soapfilm.members.shaftfile import twist_basis_of
 
     assert per_length("0.08 deg/ft") == pytest.approx(0.3048, rel=EXACT)
     assert per_length("1 deg/(20 in)") == pytest.approx(0.508, rel=EXACT)

@@ -18,8 +18,7 @@ from keyed_outline import keyed_outline
 from soapfilm import Profile, analyse
 from soapfilm.errors import InputError
 from soapfilm.materials import CRITERIA, allowable_shear, material, presets
-from soapfilm.result import nodal_shear_magnitude
-from soapfilm.shaft import (
+from soapfilm.members.shaft import (
     DEFAULT_TWIST_LIMIT,
     Load,
     Segment,
@@ -30,6 +29,7 @@ from soapfilm.shaft import (
     round_section,
     section_from_result,
 )
+from soapfilm.result import nodal_shear_magnitude
 
 G_STEEL = 79.3e9
 EXACT = 1e-12
@@ -381,7 +381,7 @@ def test_short_spans_that_twist_together_govern():
 def test_twist_basis_from_the_written_limit():
     """The basis is the length the limit is written per (1 ft = 0.3048 m exactly,
     NIST SP 811, App. B); "1 deg in 20 diameters" written for d = 40 mm is 1 deg/(800 mm)."""
-    from soapfilm.shaftfile import twist_basis_of
+    from soapfilm.members.shaftfile import twist_basis_of
 
     assert twist_basis_of("0.25 deg/m") == pytest.approx(1.0, rel=EXACT)
     assert twist_basis_of("0.08 deg/ft") == pytest.approx(0.3048, rel=EXACT)
@@ -415,7 +415,7 @@ def test_twist_basis_from_the_written_limit():
      (22.0, 0.0)),
 ])
 def test_kts_basis_only_for_stress_raisers_on_a_round_base(tmp_path, text, expected):
-    from soapfilm.shaftfile import shapefile_kts_basis
+    from soapfilm.members.shaftfile import shapefile_kts_basis
 
     f = tmp_path / "s.toml"
     f.write_text('units = "mm"\n' + text)
@@ -429,7 +429,7 @@ def test_kts_basis_only_for_stress_raisers_on_a_round_base(tmp_path, text, expec
 def test_hollow_spline_kts_on_the_tube_nominal(tmp_path):
     """Kts of a bored spline uses the tube's nominal stress 16 T d / (pi (d^4 - d_i^4)), so
     that Kts of the section = tau_max / tau_nom with the bore's effect taken out."""
-    from soapfilm.shaftfile import SectionSource
+    from soapfilm.members.shaftfile import SectionSource
 
     f = tmp_path / "hollow.toml"
     f.write_text('units = "mm"\n[[part]]\nkind = "straight_spline"\nseries = "light"\n'
@@ -446,7 +446,7 @@ def test_hollow_spline_kts_on_the_tube_nominal(tmp_path):
 
 # ----------------------------------------------------------------------------- allowables
 def test_safety_factor_below_one_is_refused():
-    from soapfilm.shaftfile import resolve_allowable
+    from soapfilm.members.shaftfile import resolve_allowable
 
     with pytest.raises(InputError, match=r"--safety-factor: safety factor 0.8 is below 1"):
         resolve_allowable(material("carbon-steel"), None, None, None, 0.8, "check")

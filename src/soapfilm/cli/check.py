@@ -13,7 +13,7 @@ from ._inputs import add_input_args, input_options
 from ._io import check_outputs_apart, check_writable, console, run_outputs, write_json
 
 if TYPE_CHECKING:  # the mechanics are imported when a check runs, not for --help
-    from ..shaft import Section, SectionCheck
+    from ..members.shaft import Section, SectionCheck
 
 NAME = "check"
 HELP = "check a bar section under a torque: peak shear, twist, stiffness, pass or fail"
@@ -150,7 +150,7 @@ def resolve_material(args) -> Material:
 def check_json(res: SectionCheck, mat: Material, twist_note: str | None = None) -> dict:
     """The check in SI base units (README, "JSON output", ``check``)."""
     if twist_note is None:
-        from ..shaft import TWIST_LIMIT_NOTE as twist_note
+        from ..members.shaft import TWIST_LIMIT_NOTE as twist_note
     out = {
         "units": "SI base units (m, N*m, Pa, rad)",
         "section": section_json(res.section, res.nominal_diameter),
@@ -261,8 +261,8 @@ def run(args) -> int:
     nominal = parse_positive(args.nominal_diameter, "length", "--nominal-diameter")
     mat = resolve_material(args)
     opts = parse_allowable_args(args)
-    from ..shaft import DEFAULT_TWIST_LIMIT, TWIST_LIMIT_NOTE
-    from ..shaftfile import SectionSource, resolve_allowable
+    from ..members.shaft import DEFAULT_TWIST_LIMIT, TWIST_LIMIT_NOTE
+    from ..members.shaftfile import SectionSource, resolve_allowable
 
     allowable = resolve_allowable(
         mat, opts["allowable_shear"], opts["yield_strength"], opts["criterion"],
@@ -284,9 +284,9 @@ def finish(args, section, fe_result, torque, length, mat, allowable, twist_limit
            nominal, sys_) -> int:
     """Check, print, write the JSON and the report; the exit status (3: the check failed)."""
     from ..errors import EXIT_CHECK_FAILED
+    from ..members.shaft import DEFAULT_TWIST_BASIS, check_section
+    from ..members.shaftfile import twist_basis_of
     from ..report.checks import section_check_view
-    from ..shaft import DEFAULT_TWIST_BASIS, check_section
-    from ..shaftfile import twist_basis_of
 
     rule = getattr(args, "twist_rule", None)
     basis = twist_basis_of(args.twist_limit) if args.twist_limit is not None \

@@ -19,7 +19,7 @@ from .check import (
 )
 
 if TYPE_CHECKING:  # the mechanics are imported when a shaft runs, not for --help
-    from ..shaft import ShaftResult
+    from ..members.shaft import ShaftResult
 
 NAME = "shaft"
 HELP = "check a stepped shaft from a shaft file: internal torque, stress, twist, stiffness"
@@ -199,18 +199,18 @@ def run(args) -> int:
     check_outputs_apart([args.file], [("--json", args.json), ("--plot", args.plot),
                                       ("--report", args.report)])
     sys_ = system_of(args)
-    from ..shaftfile import CheckOptions, SectionSource, read_shaft
+    from ..members.shaftfile import CheckOptions, SectionSource, read_shaft
 
     opts = parse_allowable_args(args)
     g = parse_positive(args.shear_modulus, "modulus", "--shear-modulus")
-    from ..shaftfile import twist_basis_of
+    from ..members.shaftfile import twist_basis_of
 
     options = CheckOptions(shear_modulus=g, material=args.material, **opts,
                            twist_rule=args.twist_rule,
                            twist_basis=None if args.twist_limit is None
                            else twist_basis_of(args.twist_limit))
     model = read_shaft(args.file, options, SectionSource(options=input_options(args)))
-    from ..shaft import analyse_shaft
+    from ..members.shaft import analyse_shaft
 
     try:
         res = analyse_shaft(model)
@@ -237,7 +237,7 @@ def finish(args, res: ShaftResult, sys_) -> int:
     if args.json and args.json != "-":
         files.stage_json(args.json, shaft_json(res), "--json")
     if args.plot or args.report:
-        from ..shaftplot import shaft_figure_bytes
+        from ..members.shaftplot import shaft_figure_bytes
 
         if args.plot:
             from ..plots import figure_format

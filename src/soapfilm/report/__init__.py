@@ -299,7 +299,7 @@ def render_shaft_report(view, figure_png: bytes | None = None,
     view : ShaftView
         From :func:`soapfilm.report.checks.shaft_check_view`.
     figure_png : bytes, optional
-        The shaft figure (:func:`soapfilm.shaftplot.plot_shaft`) as PNG.
+        The shaft figure (:func:`soapfilm.members.shaftplot.plot_shaft`) as PNG.
     generated : str, optional
         Time stamp text (default: now, UTC).
     """

@@ -15,7 +15,7 @@ import math
 from dataclasses import dataclass, field
 
 from ..materials import CRITERIA, Allowable
-from ..shaft import TWIST_RULES, SectionCheck, ShaftResult, kts_basis_text
+from ..members.shaft import TWIST_RULES, SectionCheck, ShaftResult, kts_basis_text
 from ..units import UnitSystem
 
 __all__ = ["CheckRow", "CheckView", "ShaftView", "section_check_view", "shaft_check_view",

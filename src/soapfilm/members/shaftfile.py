@@ -1,4 +1,4 @@
-"""Shaft files (TOML) and section specifications -> :class:`~soapfilm.shaft.ShaftModel`.
+"""Shaft files (TOML) and section specifications -> :class:`~soapfilm.members.shaft.ShaftModel`.
 
 A shaft file lists segments in order along the axis from x = 0, torques
 applied at stations, and stations held against turning.  Every physical
@@ -22,9 +22,10 @@ from pathlib import Path
 
 import numpy as np
 
-from .errors import InputError
-from .materials import Allowable, Material, allowable_shear, criterion_key, material
-from .profile import LENGTH_UNITS
+from ..errors import InputError
+from ..materials import Allowable, Material, allowable_shear, criterion_key, material
+from ..profile import LENGTH_UNITS
+from ..units import parse_drawing_length, parse_number, parse_quantity
 from .shaft import (
     DEFAULT_TWIST_BASIS,
     DEFAULT_TWIST_LIMIT,
@@ -40,7 +41,6 @@ from .shaft import (
     round_section,
     section_from_result,
 )
-from .units import parse_drawing_length, parse_number, parse_quantity
 
 __all__ = ["SectionSource", "CheckOptions", "read_shaft", "shaft_from_dict", "resolve_allowable",
            "twist_basis_of", "shapefile_kts_basis", "check_safety_factor"]
@@ -151,8 +151,8 @@ class SectionSource:
     def _options(self, units, mesh_size, layers=None, join_tolerance=None):
         import dataclasses
 
-        from .intake import SectionOptions
-        from .units import DrawingLength
+        from ..intake import SectionOptions
+        from ..units import DrawingLength
 
         opts = self.options or SectionOptions()
         change = {}
@@ -183,8 +183,8 @@ class SectionSource:
         file of a round-based kind with a stress raiser gives its own
         (:func:`shapefile_kts_basis`).
         """
-        from .intake import solve_input
-        from .readers._names import options_named
+        from ..intake import solve_input
+        from ..readers._names import options_named
 
         path = Path(path)
         if units is not None and units not in LENGTH_UNITS:
@@ -217,9 +217,9 @@ class SectionSource:
     def from_outline(self, outline, holes, units: str, where: str,
                      nominal_diameter: float | None, name: str, mesh_size: float | None = None
                      ) -> tuple[Section, object]:
-        from .intake import analyse_options
-        from .profile import Profile
-        from .solve import analyse
+        from ..intake import analyse_options
+        from ..profile import Profile
+        from ..solve import analyse
 
         loops = [outline, *holes]
         try:
@@ -345,7 +345,7 @@ def _round_base(part: dict) -> tuple[float, float, str] | None:
         key, words = RAISER_KINDS[kind]
         d = number(key)
         if d is None and kind == "involute_spline":
-            from .shapes.splines import involute_defaults
+            from ..shapes.splines import involute_defaults
 
             m, z = number("module"), part.get("teeth")
             if m is None or not isinstance(z, int):
@@ -445,7 +445,7 @@ def twist_basis_of(text) -> float:
     form without a length to divide by -> 1 m.  Read by the quantity
     grammar (:func:`soapfilm.units.per_length`), never evaluated.
     """
-    from .units import per_length
+    from ..units import per_length
 
     basis = per_length(text)
     return DEFAULT_TWIST_BASIS if basis is None else basis

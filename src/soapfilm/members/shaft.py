@@ -38,9 +38,9 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from .errors import InputError
-from .materials import Allowable, Material
-from .result import diameter_same_stiffness, diameter_same_strength
+from ..errors import InputError
+from ..materials import Allowable, Material
+from ..result import diameter_same_stiffness, diameter_same_strength
 
 __all__ = [
     "Section",
@@ -264,7 +264,7 @@ def section_from_result(result, nominal_diameter: float | None = None, name: str
     nominal_source : str
         Where the nominal diameter comes from, in words.
     """
-    from .profile import LENGTH_UNITS
+    from ..profile import LENGTH_UNITS
 
     s = LENGTH_UNITS[result.units]
     if nominal_diameter is None:

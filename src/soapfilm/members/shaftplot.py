@@ -4,9 +4,9 @@ from __future__ import annotations
 
 import numpy as np
 
-from .report.checks import held_label
+from ..report.checks import held_label
+from ..units import UnitSystem
 from .shaft import ShaftResult
-from .units import UnitSystem
 
 __all__ = ["plot_shaft", "shaft_figure_bytes"]
 
