@@ -48,6 +48,11 @@ class Material:
         Tensile yield strength Sy in Pa (None: none known, e.g. grey iron).
     shear_modulus_note, yield_strength_note : str
         Where each value comes from, shown beside it.
+    elastic_modulus : float or None
+        Young's modulus E in Pa (members in non-uniform torsion need E Gamma);
+        None where no value is recorded.
+    elastic_modulus_note : str
+        Where E comes from.
     """
 
     key: str
@@ -56,6 +61,8 @@ class Material:
     yield_strength: float | None = None
     shear_modulus_note: str = ""
     yield_strength_note: str = ""
+    elastic_modulus: float | None = None
+    elastic_modulus_note: str = ""
 
     def overridden(
         self,
@@ -98,7 +105,10 @@ def presets() -> dict[str, Material]:
         else:
             y_note = (f"{d['yield_strength_grade']}: {d['yield_strength_source']} "
                       f"[{d['yield_strength_status']}]")
-        out[key] = Material(key, d["label"], g, sy, g_note, y_note)
+        e = d.get("elastic_modulus")
+        e_note = "" if e is None else f"{d['elastic_modulus_source']} [{d['elastic_modulus_status']}]"
+        e = None if e is None else parse_quantity(e, "modulus", f"{where} elastic_modulus")
+        out[key] = Material(key, d["label"], g, sy, g_note, y_note, e, e_note)
     return out
 
 

@@ -58,6 +58,8 @@ KINDS: dict[str, tuple[str, str, str]] = {
     "angle": ("", "rad", '"1.5 deg" or "0.02 rad"'),
     "twist_rate": ("1 / [length]", "rad/m", '"0.25 deg/m" or "0.08 deg/ft"'),
     "stiffness": ("[mass] * [length] ** 2 / [time] ** 2", "N*m/rad", '"5e4 N*m/rad"'),
+    "torque_per_length": ("[mass] * [length] / [time] ** 2", "N*m/m",
+                          '"150 N*m/m" or "30 lbf*in/in"'),
 }
 
 #: The one rule for bare numbers: a physical value given without a unit (on the
@@ -72,6 +74,7 @@ BARE_UNITS: dict[str, str] = {
     "angle": "deg",
     "twist_rate": "deg/m",
     "stiffness": "N*m/rad",
+    "torque_per_length": "N*m/m",
 }
 
 _NAMES = {
@@ -82,6 +85,7 @@ _NAMES = {
     "angle": "an angle",
     "twist_rate": "a twist per length (angle / length)",
     "stiffness": "a torsional stiffness (torque / angle)",
+    "torque_per_length": "a distributed torque (torque / length)",
 }
 
 
@@ -410,6 +414,7 @@ PLAUSIBLE: dict[str, tuple[float, float, str]] = {
     "angle": (1e-10 * math.pi / 180, 1e7 * math.pi / 180, "1e-10 to 1e7 deg"),
     "twist_rate": (1e-10 * math.pi / 180, 1e7 * math.pi / 180, "1e-10 to 1e7 deg/m"),
     "stiffness": (1e-9, 1e15, "1e-9 to 1e15 N*m/rad"),
+    "torque_per_length": (1e-9, 1e12, "1e-9 to 1e12 N*m/m"),
 }
 #: the same for a bare length of a drawing (mesh size, join tolerance), in the drawing's unit
 DRAWING_PLAUSIBLE = (1e-9, 1e9)
@@ -641,6 +646,11 @@ SYSTEMS: dict[str, UnitSystem] = {
         "area": ("mm^2", 1e-6),
         "per_torque": ("1/mm^3", 1e9),
         "ratio": ("", 1.0),
+        "torque_per_length": ("N*m/m", 1.0),
+        "bimoment": ("N*m^2", 1.0),
+        "warping_constant": ("mm^6", 1e-18),
+        "warping_function": ("mm^2", 1e-6),
+        "per_length": ("1/m", 1.0),
     }),
     "US": UnitSystem("US", {
         "length": ("in", _IN),
@@ -656,6 +666,11 @@ SYSTEMS: dict[str, UnitSystem] = {
         "area": ("in^2", _IN**2),
         "per_torque": ("1/in^3", 1.0 / _IN**3),
         "ratio": ("", 1.0),
+        "torque_per_length": ("lbf*in/in", _LBF),
+        "bimoment": ("lbf*in^2", _LBF * _IN**2),
+        "warping_constant": ("in^6", _IN**6),
+        "warping_function": ("in^2", _IN**2),
+        "per_length": ("1/in", 1.0 / _IN),
     }),
 }
 

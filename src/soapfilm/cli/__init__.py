@@ -25,7 +25,7 @@ from ..notices import record_text, warning_text
 __all__ = ["main", "SUBCOMMANDS"]
 
 #: subcommand modules, in the order ``--help`` lists them
-SUBCOMMANDS = ["solve", "show", "shapes", "check", "shaft", "batch", "sweep"]
+SUBCOMMANDS = ["solve", "show", "shapes", "check", "shaft", "member", "batch", "sweep"]
 
 
 class _Parser(argparse.ArgumentParser):

@@ -112,6 +112,14 @@ class Section:
         Where the nominal diameter comes from (shown beside Kts).
     outside_diameter : float or None
         Outside diameter of a round section (m), for drawings.
+    warping_constant : float or None
+        Gamma = int omega_n^2 dA (m^6) about the shear centre; 0 for a round
+        section (it does not warp), None where the section's result has none.
+    max_warping : float or None
+        Largest |omega_n| over the section (m^2), for sigma_w = B omega_n / Gamma.
+    size : float or None
+        Largest distance across the section (m): the scale against which a
+        member's warping decay length 1/lambda is judged (members/member.py).
     """
 
     name: str
@@ -126,6 +134,9 @@ class Section:
     nominal_bore: float | None = None
     nominal_source: str = ""
     outside_diameter: float | None = None
+    warping_constant: float | None = None
+    max_warping: float | None = None
+    size: float | None = None
 
     @property
     def torsional_section_modulus(self) -> float:
@@ -223,6 +234,9 @@ def round_section(diameter: float, bore: float = 0.0, name: str = "") -> Section
         polar_moment=j,
         torsion_constant_bounds=(j, j),
         outside_diameter=diameter,
+        warping_constant=0.0,  # omega = 0 on a circle and a concentric tube
+        max_warping=0.0,
+        size=diameter,
     )
 
 
@@ -273,6 +287,7 @@ def section_from_result(result, nominal_diameter: float | None = None, name: str
         if hint is not None and not nominal_source:
             nominal_source = "the section's own"
     lo, hi = result.torsion_constant_bounds
+    warping = getattr(result, "warping", None)  # section quantities of restrained warping
     return Section(
         name=name or result.profile.name or "section",
         torsion_constant=result.torsion_constant * s**4,
@@ -286,6 +301,9 @@ def section_from_result(result, nominal_diameter: float | None = None, name: str
         nominal_bore=nominal_bore if nominal_diameter is not None else None,
         nominal_source=nominal_source if nominal_diameter is not None else "",
         outside_diameter=outside_diameter,
+        warping_constant=None if warping is None else warping.warping_constant * s**6,
+        max_warping=None if warping is None else warping.max_warping * s**2,
+        size=result.profile.diameter * s,
     )
 
 

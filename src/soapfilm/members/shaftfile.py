@@ -553,25 +553,35 @@ def read_shaft(path, options: CheckOptions | None = None,
                sections: SectionSource | None = None) -> ShaftModel:
     """Read a TOML shaft file into a :class:`ShaftModel` (SI)."""
     path = Path(path)
+    return shaft_from_dict(load_toml(path), path.parent, str(path), options, sections)
+
+
+def load_toml(path: Path, what: str = "shaft file") -> dict:
+    """The parsed TOML of a shaft or member file; every fault one line."""
     if not path.exists():
         raise InputError("file not found", where=str(path), fix="check the path")
     if path.is_dir():
-        raise InputError("is a folder, not a shaft file", where=str(path))
+        raise InputError(f"is a folder, not a {what}", where=str(path))
     try:
-        data = tomllib.loads(path.read_text(encoding="utf-8-sig"))
+        return tomllib.loads(path.read_text(encoding="utf-8-sig"))
     except UnicodeDecodeError:
         raise InputError("is not a text file", where=str(path)) from None
     except tomllib.TOMLDecodeError as exc:
         hint = "check quotes, brackets and '=' on that line"
         if path.suffix.lower() != ".toml":
-            hint = "a shaft file is a TOML file (.toml); see notes/shaft.md for the keys"
+            hint = (f"a {what} is a TOML file (.toml); see "
+                    f"{'notes/shaft.md' if what == 'shaft file' else 'the README'} for the keys")
         raise InputError(f"not valid TOML: {exc}", where=str(path), fix=hint) from None
-    return shaft_from_dict(data, path.parent, str(path), options, sections)
 
 
 def shaft_from_dict(data: dict, base: Path, where: str, options: CheckOptions | None = None,
-                    sections: SectionSource | None = None) -> ShaftModel:
-    """Build a :class:`ShaftModel` from the parsed TOML of a shaft file."""
+                    sections: SectionSource | None = None, require_loads: bool = True
+                    ) -> ShaftModel:
+    """Build a :class:`ShaftModel` from the parsed TOML of a shaft file.
+
+    ``require_loads=False``: a file with no ``[[load]]`` is taken (a member
+    file, whose loads may all be distributed; :mod:`soapfilm.members.memberfile`).
+    """
     opts = options or CheckOptions()
     sections = sections or SectionSource()
     if "segment" not in data and ("section" in data or "part" in data):
@@ -762,7 +772,7 @@ def shaft_from_dict(data: dict, base: Path, where: str, options: CheckOptions | 
         x = position(sp, pw)
         supports.append(Support(sp.get("name", f"support {i + 1}"), x))
         stations.append((x, _label("support", i, sp)))
-    if not loads:
+    if not loads and require_loads:
         raise InputError("no loads", where=where,
                          fix="add [[load]] tables with the torques applied along the shaft")
     return ShaftModel(
