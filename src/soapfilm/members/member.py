@@ -284,7 +284,7 @@ def analyse_member(model: MemberModel) -> MemberResult:
             raise InputError(
                 "warping is held here, but the section there does not warp (Gamma = 0, a round "
                 "bar or tube): holding it would ask for a bimoment the section cannot carry",
-                where=f"support {sp.name!r}", fix='drop warping = "held" (write "free")')
+                where=f"support {sp.name!r}", fix='write warping = "free"')
         if not any(status[k][0] for k in near):
             notes.append(f"support {sp.name!r}: warping held, but the section there is taken "
                          "as Saint-Venant (see above): no effect")
