@@ -607,3 +607,47 @@ def test_include_mesh_is_deprecated_and_ignored(hex_result):
     assert old == new
     assert new["mesh"] == {"nodes": hex_result.mesh.nnodes,
                            "elements": hex_result.mesh.nelements, "order": 2}
+
+
+# --- member ------------------------------------------------------------------------
+MEMBER_FILE = """
+name = "Schema member"
+[check]
+material = "carbon-steel"
+safety_factor = 2
+
+[[segment]]
+name = "bar"
+length = "600 mm"
+section = { diameter = "40 mm" }
+distributed_torque = "100 N*m/m"
+
+[[segment]]
+name = "tube"
+length = "400 mm"
+section = { diameter = "60 mm", bore = "40 mm" }
+
+[[support]]
+name = "wall"
+at = 0
+
+[[support]]
+name = "bearing"
+at = "1000 mm"
+twist = "free"
+
+[[load]]
+name = "arm"
+at = "600 mm"
+torque = "150 N*m"
+"""
+
+
+def test_member_json_matches_readme(tmp_path):
+    """A member of round sections (Gamma = 0: the warping keys null or zero); the
+    warping keys' types are checked with a warping section in test_member.py."""
+    f = tmp_path / "m.toml"
+    f.write_text(MEMBER_FILE)
+    doc = _run_check(["member", str(f)], tmp_path / "m.json")
+    assert_covered("member", check_document(doc, "member"))
+    assert doc["stations"][0]["reaction_torque_Nm"] == pytest.approx(150 + 60, rel=1e-12)

@@ -20,6 +20,7 @@ formulas of the same chapter), so these tests need no finite-element solve.
 
 from __future__ import annotations
 
+import json
 import math
 
 import numpy as np
@@ -270,8 +271,6 @@ torque = "100 N*m"
 def test_member_file_on_round_bars_matches_saint_venant(tmp_path, capsys):
     """A round bar through `soapfilm member`: twist T L / (G J) (Gere, Mechanics of
     Materials, torsion formula), G of the preset (EN 1993-1-1, 81 GPa)."""
-    import json
-
     f = tmp_path / "m.toml"
     f.write_text(GOOD.format(segment_extra="", support_extra=""))
     out = tmp_path / "m.json"
@@ -311,3 +310,18 @@ def test_support_off_the_member_one_line_exit_2(tmp_path, capsys):
     assert main(["member", str(f)]) == 2
     err = capsys.readouterr().err.strip()
     assert len(err.splitlines()) == 1 and "off the member" in err
+
+
+def test_member_json_with_warping_matches_readme():
+    """The JSON of a member that counts warping has the README's keys and types
+    (test_json_schema.py reads the tables; its own run has round sections only)."""
+    from soapfilm.cli.member import member_json
+    from test_json_schema import check_document
+
+    model = MemberModel("cantilever", (_segment(_i_section(), 2.0, m=50.0),),
+                        (Load("arm", 2.0, 900.0),),
+                        (MemberSupport("wall", 0.0, True, True),), math.radians(1.0), "test")
+    doc = json.loads(json.dumps(member_json(analyse_member(model))))
+    check_document(doc, "member")
+    seg = doc["segments"][0]
+    assert seg["warping_counted"] and seg["lambda_per_m"] == pytest.approx(LAM, rel=1e-12)

@@ -343,7 +343,7 @@ def analyse_member(model: MemberModel) -> MemberResult:
         stations.append(StationResult(
             name=" + ".join(names[j]), x=float(st_x[j]), torque=float(torque[j]),
             twist_held=bool(twist_held[j]), warping_held=bool(warping_held[j]),
-            twist=side["phi"],
+            twist=0.0 if twist_held[j] else side["phi"],  # held: zero by its condition
             reaction_torque=sol.reactions[j] if twist_held[j] else None,
             bimoment=max(bims, key=abs) if warps else None))
 

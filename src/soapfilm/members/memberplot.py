@@ -75,7 +75,7 @@ def plot_member(result: MemberResult, system: UnitSystem, axes=None):
         for v in xb:
             ax.axvline(v, color="0.75", lw=0.7, ls=":")
     gov = result.governing
-    for ax in axes:
+    for ax in axes if len(result.segments) > 1 else ():
         ax.axvspan(system.value(gov.x_start, "position"), system.value(gov.x_end, "position"),
                    color="#dd8452", alpha=0.08, lw=0)
     # stations: name and conditions above the top axes
@@ -88,7 +88,8 @@ def plot_member(result: MemberResult, system: UnitSystem, axes=None):
                       xycoords=("data", "axes fraction"), xytext=(0, 3),
                       textcoords="offset points", ha="center", va="bottom", fontsize=8,
                       rotation=0)
-    ax_b.text(1.0, -0.32, "[T] twist held, [W] warping held; shaded: governing segment",
+    ax_b.text(1.0, -0.32, "[T] twist held, [W] warping held"
+              + ("; shaded: governing segment" if len(result.segments) > 1 else ""),
               transform=ax_b.transAxes, ha="right", va="top", fontsize=7.5, color="0.4")
     ax_p.set_title(result.model.name, pad=18, fontsize=11)
     return tuple(axes)
