@@ -153,15 +153,18 @@ def print_member(res: MemberResult, sys: UnitSystem, con) -> None:
     n = len(m.segments)
     con.print(f"[bold]{e(m.name)}[/]: {n} segment{'s' if n != 1 else ''}, length "
               f"{f(m.length, 'length')}, non-uniform torsion")
-    t = Table(title="Segments", header_style="bold", title_justify="left")
-    for col in ("segment", "section", "lambda L", "max twist", "max B", "tau (SV)",
-                "sigma_w", "tau_eq", "allowable", "utilisation"):
-        t.add_column(col, justify="left" if col in ("segment", "section") else "right",
-                     overflow="fold")
+    for p in res.segments:
+        con.print(f"segment {e(p.segment.name)}: section {e(p.segment.section.name)}, "
+                  f"E {f(p.segment.elastic_modulus, 'modulus')} "
+                  f"({e(p.segment.elastic_modulus_note or 'given')})")
+    t = Table(title="Segments (peaks along each)", header_style="bold", title_justify="left")
+    for col in ("segment", "lam L", "twist", "B", "tau SV", "sigma_w", "tau_eq", "allowed",
+                "util."):
+        t.add_column(col, justify="left" if col == "segment" else "right", overflow="fold")
     for p in res.segments:
         s = p.segment
         util = f"{p.utilisation:.3f}"
-        t.add_row(e(s.name), e(s.section.name),
+        t.add_row(e(s.name),
                   "SV" if p.lam is None else f"{p.lambda_length:.3g}",
                   f(p.max_twist, "angle"),
                   "-" if p.lam is None else f(p.max_bimoment, "bimoment"),
