@@ -325,3 +325,20 @@ def test_member_json_with_warping_matches_readme():
     check_document(doc, "member")
     seg = doc["segments"][0]
     assert seg["warping_counted"] and seg["lambda_per_m"] == pytest.approx(LAM, rel=1e-12)
+
+
+def test_member_report_and_plot(tmp_path, capsys):
+    """--report writes one HTML page with the verdict, the check rows and the figure;
+    --plot an SVG; the twist of the round bar in the report is T L / (G J) (Gere,
+    torsion formula: 100 N*m, 1 m, d 40 mm, G 81 GPa -> 0.2814 deg)."""
+    f = tmp_path / "m.toml"
+    f.write_text(GOOD.format(segment_extra="", support_extra="").replace(
+        'name = "test"', 'name = "test"\ntwist_limit = "1 deg/m"'))
+    rep, svg = tmp_path / "r.html", tmp_path / "p.svg"
+    assert main(["member", str(f), "--report", str(rep), "--plot", str(svg), "--quiet"]) == 0
+    text = rep.read_text(encoding="utf-8")
+    assert "PASS" in text and "data:image/png;base64," in text and "Stations" in text
+    twist = math.degrees(100 * 1.0 / (81e9 * math.pi * 0.04**4 / 32))
+    assert f"{twist:.4g} deg" in text
+    assert svg.read_text(encoding="utf-8").lstrip().startswith(("<?xml", "<svg"))
+

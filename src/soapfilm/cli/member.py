@@ -36,6 +36,9 @@ def add_args(p: argparse.ArgumentParser) -> None:
                         "the member (PNG, SVG or PDF by suffix)")
     p.add_argument("--quiet", action="store_true", help="no terminal output")
     add_input_args(p, what="the section files")
+    p.add_argument("--report", metavar="OUT.html",
+                   help="self-contained HTML report: the check, every segment, the stations "
+                        "and the member figure")
 
 
 def _span_json(sp) -> dict:
@@ -144,63 +147,43 @@ def member_json(res: MemberResult) -> dict:
     }
 
 
-def print_member(res: MemberResult, sys: UnitSystem, con) -> None:
+def print_member(res: MemberResult, sys: UnitSystem, con, view=None) -> None:
     from rich.markup import escape as e
     from rich.table import Table
 
-    f = sys.fmt
+    from ..report.member import member_check_view
+    from .check import print_headline, print_view_tables
+
+    if view is None:
+        view = member_check_view(res, sys)
     m = res.model
     n = len(m.segments)
     con.print(f"[bold]{e(m.name)}[/]: {n} segment{'s' if n != 1 else ''}, length "
-              f"{f(m.length, 'length')}, non-uniform torsion")
-    for p in res.segments:
-        con.print(f"segment {e(p.segment.name)}: section {e(p.segment.section.name)}, "
-                  f"E {f(p.segment.elastic_modulus, 'modulus')} "
-                  f"({e(p.segment.elastic_modulus_note or 'given')})")
-    t = Table(title="Segments (peaks along each)", header_style="bold", title_justify="left")
-    for col in ("segment", "lam L", "twist", "B", "tau SV", "sigma_w", "tau_eq", "allowed",
-                "util."):
-        t.add_column(col, justify="left" if col == "segment" else "right", overflow="fold")
-    for p in res.segments:
-        s = p.segment
-        util = f"{p.utilisation:.3f}"
-        t.add_row(e(s.name),
-                  "SV" if p.lam is None else f"{p.lambda_length:.3g}",
-                  f(p.max_twist, "angle"),
-                  "-" if p.lam is None else f(p.max_bimoment, "bimoment"),
-                  f(p.max_shear_stress, "stress"),
-                  "-" if p.max_warping_stress is None else f(p.max_warping_stress, "stress"),
-                  f(p.equivalent_shear_stress, "stress"), f(s.allowable.value, "stress"),
-                  util if p.passed else f"[bold red]{util}[/]")
-    con.print(t)
-    t = Table(title="Stations", header_style="bold", title_justify="left")
-    for col in ("station", "x", "torque", "twist", "warping", "rotation", "reaction", "bimoment"):
-        t.add_column(col, justify="left" if col == "station" else "right", overflow="fold")
-    for st in res.stations:
-        t.add_row(e(st.name), f(st.x, "position"), f(st.torque, "torque"), _word(st.twist_held),
-                  _word(st.warping_held), f(st.twist, "angle"),
-                  "-" if st.reaction_torque is None else f(st.reaction_torque, "torque"),
-                  "-" if st.bimoment is None else f(st.bimoment, "bimoment"))
-    con.print(t)
-    t = Table(title=f"Twist between stations (limit {f(m.twist_limit, 'twist_rate')}, at least "
-                    f"over {f(m.twist_basis, 'length')})", header_style="bold",
-              title_justify="left")
-    for col in ("from", "to", "length", "twist range", "allowed", "utilisation"):
-        t.add_column(col, justify="left" if col in ("from", "to") else "right", overflow="fold")
-    for sp in res.spans:
-        util = f"{sp.utilisation:.3f}"
-        t.add_row(e(sp.start), e(sp.end), f(sp.length, "length"), f(sp.twist_range, "angle"),
-                  f(sp.allowed, "angle"), util if sp.utilisation <= 1 else f"[bold red]{util}[/]")
-    con.print(t)
-    for note in res.notes:
+              f"{sys.fmt(m.length, 'length')}, non-uniform torsion")
+    short = {"Saint-Venant shear": "tau SV", "warping normal stress": "sigma_w",
+             "largest twist": "twist", "largest bimoment": "B", "utilisation": "util.",
+             "combined": "tau_eq", "allowable": "allowed", "rotation": "rotation"}
+    for title, head, rows, over in view.tables:
+        keep = [i for i, h in enumerate(head) if h != "section"]
+        t = Table(header_style="bold", title=title, title_justify="left")
+        for i in keep:
+            t.add_column(e(short.get(head[i], head[i])),
+                         justify="left" if head[i] in ("segment", "station") else "right",
+                         overflow="fold")
+        util = head.index("utilisation") if "utilisation" in head else None
+        for k, row in enumerate(rows):
+            cells = [e(str(row[i])) for i in keep]
+            if util is not None and k in over:
+                j = keep.index(util)
+                cells[j] = f"[bold red]{cells[j]}[/]"
+            t.add_row(*cells)
+        con.print(t)
+    print_view_tables(view, con)
+    for note in view.notes:
         con.print(f"[dim]note: {e(note)}[/]")
-    gov = res.governing
-    what = (f"stress in segment {gov.segment.name!r} at x = {f(gov.x_equivalent, 'position')}"
-            if res.governs == "stress" else
-            f"twist between {res.twist_governing.start} and {res.twist_governing.end}")
-    colour = "green" if res.passed else "red"
-    con.print(f"[bold {colour}]{'PASS' if res.passed else 'FAIL'}[/]: utilisation "
-              f"{res.utilisation:.3f}, governed by {e(what)}")
+    print_headline(view, con)
+    for w in view.warnings:
+        con.print(f"[bold yellow]warning:[/] {e(w)}")
     con.print(f"[dim]Caution: {e(CAUTION)}[/]")
 
 
@@ -212,7 +195,13 @@ def run(args) -> int:
         from ..plots import figure_format
 
         figure_format(args.plot)
-    check_outputs_apart([args.file], [("--json", args.json), ("--plot", args.plot)])
+    if args.report:
+        if not args.report.lower().endswith((".html", ".htm")):
+            raise InputError("the report is an HTML file", where=f"--report {args.report}",
+                             fix="end the file name in .html")
+        check_writable(args.report, "--report")
+    check_outputs_apart([args.file], [("--json", args.json), ("--plot", args.plot),
+                                      ("--report", args.report)])
     sys_ = system_of(args)
     from ..members.shaftfile import CheckOptions, SectionSource, twist_basis_of
 
@@ -236,23 +225,35 @@ def run(args) -> int:
 
 
 def finish(args, res: MemberResult, sys_) -> int:
-    """Print, write the JSON and the plot; the exit status (3: a check failed)."""
+    """Print, write the JSON, the plot and the report; the exit status (3: a check failed)."""
     from ..errors import EXIT_CHECK_FAILED
+    from ..report.member import member_check_view
 
+    view = member_check_view(res, sys_, member_file=str(args.file))
     files = run_outputs()  # every file written before anything is printed
     if args.json and args.json != "-":
         files.stage_json(args.json, member_json(res), "--json")
-    if args.plot:
+    if args.plot or args.report:
         from ..members.memberplot import member_figure_bytes
-        from ..plots import figure_format
 
-        files.stage(args.plot, member_figure_bytes(res, sys_, figure_format(args.plot)), "--plot")
+        if args.plot:
+            from ..plots import figure_format
+
+            files.stage(args.plot, member_figure_bytes(res, sys_, figure_format(args.plot)),
+                        "--plot")
+        if args.report:
+            from ..report.member import render_member_report
+
+            files.stage(args.report, render_member_report(
+                view, member_figure_bytes(res, sys_, "png", dpi=110)), "--report")
     files.commit()
     con = console(args.quiet or args.json == "-")
     if con:
-        print_member(res, sys_, con)
+        print_member(res, sys_, con, view=view)
         if args.plot:
             con.print(f"plot written to {args.plot}")
+        if args.report:
+            con.print(f"report written to {args.report}")
     if args.json == "-":
         write_json("-", member_json(res))
     return 0 if res.passed else EXIT_CHECK_FAILED

@@ -157,4 +157,5 @@ def member_from_dict(data: dict, base: Path, where: str, options: CheckOptions |
                          fix="add [[load]] tables or a segment's distributed_torque")
     return MemberModel(name=shaft.name, segments=tuple(segments), loads=shaft.loads,
                        supports=tuple(supports), twist_limit=shaft.twist_limit,
-                       twist_limit_note=shaft.twist_limit_note, twist_basis=shaft.twist_basis)
+                       twist_limit_note=shaft.twist_limit_note.replace("shaft file", "member file"),
+                       twist_basis=shaft.twist_basis)
