@@ -134,6 +134,38 @@ def test_zero_warping_constant_is_saint_venant_exactly():
     assert not np.any(sol.bimoment)
 
 
+def test_warping_piece_joined_to_a_round_piece():
+    """A warping piece (root welded) joined to a piece that does not warp: the round
+    piece carries no bimoment, so B = 0 at the joint and the first piece is the
+    welded cantilever of its own length (T&G 2nd ed. ch. 5, from memory); the round
+    piece adds T b / (G J_2) (Gere, torsion of bars)."""
+    t, a, b = 600.0, 1.5, 0.7
+    gj2 = 3.0 * GJ
+    sol = solve_member([Piece(a, GJ, EG), Piece(b, gj2, 0.0)],
+                       [Station(0.0, True, True), Station(), Station(t)])
+    left = sol.end_values[1][0]
+    phi_a = t / GJ * (a - math.tanh(LAM * a) / LAM)
+    np.testing.assert_allclose(left["phi"], phi_a, rtol=1e-10)
+    np.testing.assert_allclose(left["bimoment"], 0.0, atol=1e-10 * t / LAM)
+    np.testing.assert_allclose(sol.twist[-1], phi_a + t * b / gj2, rtol=1e-10)
+
+
+def test_maximum_shear_criterion_combines_with_half_the_normal_stress():
+    """With a Tresca allowable the combination is sqrt(tau^2 + (sigma/2)^2) (Shigley,
+    Mechanical Engineering Design, ch. 5, maximum-shear-stress theory): at the welded
+    root tau_SV = 0, so the combined stress there is sigma_w / 2."""
+    t, length = 1.5e3, 0.4  # short: the root governs
+    mat = Material("steel", "steel", G, 355e6, "test", "test", E, "test")
+    allow = Allowable(100e6, "test", "tresca")
+    seg = MemberSegment("beam", length, _i_section(), mat, E, "test", allow)
+    model = MemberModel("cantilever", (seg,), (Load("arm", length, t),),
+                        (MemberSupport("wall", 0.0, True, True),), math.radians(10.0), "test")
+    p = analyse_member(model).segments[0]
+    sigma_root = t * math.tanh(LAM * length) / LAM * OMEGA_I / GAMMA_I
+    assert p.x_equivalent == 0.0
+    assert p.equivalent_shear_stress == pytest.approx(sigma_root / 2, rel=1e-10)
+
+
 # --- a multi-segment member against scipy's boundary-value solver -------------------
 def _bvp_reference(pieces, conditions, torques):
     """The same member by scipy.integrate.solve_bvp: each piece mapped to t in [0, 1],
