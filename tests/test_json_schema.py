@@ -324,6 +324,9 @@ def test_solve_json_units_scale_with_the_section(solve_runs):
     pairs += [(("singular_corners", "[]"), x, y)
               for x, y in zip(a["singular_corners"], b["singular_corners"], strict=True)]
     pairs += [(("mesh",), a["mesh"], b["mesh"])]
+    pairs += [(("warping",), a["warping"], b["warping"]),
+              (("warping", "estimated_relative_error"), a["warping"]["estimated_relative_error"],
+               b["warping"]["estimated_relative_error"])]
     size = 4.0  # cm, the L's width
     for path, x, y in pairs:
         for key, va, vb, p in _numbers_by_key(schema[path], x, y):

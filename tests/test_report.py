@@ -90,7 +90,7 @@ def test_report_is_well_formed_and_self_contained(report_text):
     for tag, key, url in c.urls:
         assert not url.lower().startswith(("http:", "https:", "//", "file:")), (tag, key, url)
     assert "http://" not in report_text and "https://" not in report_text
-    assert len(c.images) == 3  # section, shear map, warping map
+    assert len(c.images) == 4  # section, shear map, warping map, normalised warping map
     for src in c.images:
         assert src.startswith("data:image/png;base64,")
         img = png_pixels(base64.b64decode(src.split(",", 1)[1]))

@@ -41,6 +41,7 @@ import numpy as np
 
 from .corners import DEFAULT_CORNER_TOL_DEG, reentrant_corners, traced_runs
 from .errors import InputError
+from .fem.sectorial import warping_properties
 from .mesh import Mesh, default_mesh_size, mesh_profile
 from .profile import Profile
 from .resources import elements_within, format_bytes, memory_budget
@@ -178,6 +179,10 @@ def refine_until(
             "relative_bracket": float(gap),
             "max_shear_error": float(perr),
         }
+        # restrained-warping quantities per step: their history is their error estimate
+        wp = warping_properties(mesh, fields)
+        entry["warping_constant"] = wp.warping_constant
+        entry["shear_centre"] = list(wp.shear_centre)
         history.append(entry)
         log.info("step %d: %d elements, bracket %.2e, peak error %.2e",
                  step, mesh.nelements, gap, perr)

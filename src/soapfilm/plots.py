@@ -32,6 +32,7 @@ __all__ = [
     "draw_section",
     "plot_shear",
     "plot_warping",
+    "plot_sectorial",
     "plot_stress_surface",
     "wall_chords",
     "wall_thickness",
@@ -819,6 +820,79 @@ def plot_warping(result, ax=None, show_mesh: bool = False):
               horizontal=_is_wide(profile))
     _finish_axes(ax, profile, f"{_section_name(profile)}: warping (axial displacement "
                               f"per unit twist rate)\nred: out of the page, blue: into it")
+    return ax
+
+
+def plot_sectorial(result, ax=None, show_mesh: bool = False):
+    """Normalised warping ``omega_n`` over the section, with the shear centre.
+
+    ``omega_n`` (:func:`soapfilm.fem.sectorial.normalised_warping`) is the
+    warping about the shear centre with zero mean, orthogonal to x and y,
+    signed as thin-walled theory's principal sectorial coordinate (the axial
+    displacement is ``-omega_n`` times the twist rate, the warping normal
+    stress ``B omega_n / Gamma``).  Diverging colours centred on zero, thin
+    contours; the shear centre is a black cross in a ring, the centroid a
+    small ring, the largest ``|omega_n|`` a square; values in the legend.
+    Quadratic fields are drawn on their elements split at the mid-side nodes.
+
+    Returns
+    -------
+    matplotlib.axes.Axes
+    """
+    from matplotlib.colors import TwoSlopeNorm
+
+    from .fem.sectorial import normalised_warping, warping_properties
+
+    mesh, profile, f = result.mesh, result.profile, result.fields
+    wp = result.warping if result.warping is not None else warping_properties(mesh, f)
+    ax = _new_axes(ax, _fit_size(profile, colorbar=True, legend=3))
+    wn = normalised_warping(mesh, f)
+    t6 = getattr(f, "t6", None)
+    if t6 is not None and np.shape(t6)[0] == 6 and len(wn) == np.shape(f.p)[1]:
+        t = np.asarray(t6)[_P2_SPLIT].transpose(1, 0, 2).reshape(3, -1)
+        xy = np.asarray(f.p) + np.asarray(f.origin, dtype=float).reshape(2, 1)
+    else:
+        t = _corner_triangles(mesh)
+        xy, wn = mesh.p, wn[: mesh.nnodes]
+    tri = _triangulation(xy, t)
+    lim = float(np.max(np.abs(wn[np.unique(t)]))) or 1.0
+    norm = TwoSlopeNorm(vcenter=0.0, vmin=-lim, vmax=lim)
+    pc = ax.tripcolor(tri, wn, shading="gouraud", cmap="PuOr_r", norm=norm, rasterized=True,
+                      zorder=1)
+    if np.ptp(wn) > 1e-9 * lim:
+        ax.tricontour(tri, wn, levels=np.linspace(-lim, lim, 13)[1:-1], colors="k",
+                      linewidths=0.35, alpha=0.45, zorder=2)
+    if show_mesh:
+        _mesh_overlay(ax, mesh.p, _corner_triangles(mesh), mesh.nelements)
+    _outline(ax, profile)
+    u = result.units
+    _colorbar(ax, pc, f"normalised warping ω_n [{u}²]", horizontal=_is_wide(profile))
+    tiny = 1e-9 * profile.size
+
+    def at(v):
+        return ", ".join(f"{0.0 if abs(c) < tiny else c:.4g}" for c in v)
+
+    sx, sy = wp.shear_centre
+    cx, cy = result.centroid
+    mx, my = wp.max_warping_location
+    h_sc = ax.plot([sx], [sy], ls="none", marker="o", ms=11, mfc="none", mec="k", mew=1.3,
+                   zorder=8)[0]
+    ax.plot([sx], [sy], ls="none", marker="+", ms=11, mec="k", mew=1.3, zorder=8)
+    h_sc.set_label(f"shear centre ({at(wp.shear_centre)}) {u}")
+    h_c = ax.plot([cx], [cy], ls="none", marker="o", ms=5, mfc="white", mec="k", mew=1.0,
+                  zorder=8, label=f"centroid ({at(result.centroid)}) {u}")[0]
+    h_m = ax.plot([mx], [my], ls="none", marker="s", ms=7, mfc="none", mec="#d62728", mew=1.5,
+                  zorder=8, label=f"largest |ω_n| {_fmt(wp.max_warping)} {u}² at "
+                                  f"({at(wp.max_warping_location)}) {u}")[0]
+    _finish_axes(ax, profile, f"{_section_name(profile)}: normalised warping ω_n about the "
+                              f"shear centre\nΓ = ∫ω_n² dA = {_fmt(wp.warping_constant)} {u}⁶")
+    # the shear centre may lie outside the section (channels, angles turned): keep it in view
+    x0, x1 = ax.get_xlim()
+    y0, y1 = ax.get_ylim()
+    pad = 0.05 * max(x1 - x0, y1 - y0)
+    ax.set_xlim(min(x0, sx - pad), max(x1, sx + pad))
+    ax.set_ylim(min(y0, sy - pad), max(y1, sy + pad))
+    _bottom_legend(ax, [h_sc, h_c, h_m])
     return ax
 
 

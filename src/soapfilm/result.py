@@ -8,6 +8,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from .fem.sectorial import WarpingProperties
 from .fem.torsion import TorsionFields
 from .mesh import Mesh
 from .profile import Profile
@@ -66,6 +67,10 @@ class TorsionResult:
     max_shear_per_torque_warping : float or None
         The peak shear at the same place from the warping-function field: an
         independent cross-check of ``max_shear_per_torque``.
+    warping : WarpingProperties or None
+        Restrained-warping quantities: shear centre, warping constant Gamma,
+        largest normalised warping, second moments and principal axes
+        (:mod:`soapfilm.fem.sectorial`).
     """
 
     profile: Profile
@@ -84,6 +89,7 @@ class TorsionResult:
     corners: tuple = ()
     converged: bool | None = None
     max_shear_per_torque_warping: float | None = None
+    warping: WarpingProperties | None = None
 
     @property
     def units(self) -> str:
@@ -167,6 +173,7 @@ class TorsionResult:
                 "elements": self.mesh.nelements,
                 "order": self.order,
             },
+            "warping": _warping_dict(self.warping),
         }
         return json_ready(out)
 
@@ -204,6 +211,7 @@ class TorsionResult:
         if err is not None:
             extra.append(("  estimated relative error", f"{err:.1e}", "-"))
         rows[10:10] = extra
+        rows[-1:-1] = _warping_rows(self.warping, u, xy)
         return rows
 
     def _repr_html_(self) -> str:  # notebooks
@@ -220,6 +228,51 @@ class TorsionResult:
             + (f"<ul>{warn}</ul>" if warn else "")
             + f"<p><small>{escape(CAUTION)}</small></p>"
         )
+
+
+def _warping_dict(w: WarpingProperties | None) -> dict | None:
+    """The JSON object ``warping`` (README, "JSON output"), or None."""
+    if w is None:
+        return None
+    return {
+        "shear_centre": list(w.shear_centre),
+        "warping_constant": w.warping_constant,
+        "max_warping": w.max_warping,
+        "max_warping_location": list(w.max_warping_location),
+        "second_moments": list(w.second_moments),
+        "principal_angle_deg": math.degrees(w.principal_angle),
+        "principal_moments": list(w.principal_moments),
+        "estimated_relative_error": {
+            "warping_constant": w.estimated_relative_error.get("warping_constant"),
+            "shear_centre": w.estimated_relative_error.get("shear_centre"),
+        },
+    }
+
+
+def _warping_rows(w: WarpingProperties | None, u: str, xy) -> list[tuple[str, str, str]]:
+    """Table rows of the restrained-warping quantities."""
+    if w is None:
+        return []
+    err = w.estimated_relative_error
+    ix, iy, ixy = w.second_moments
+
+    def est(key):
+        v = err.get(key)
+        return [] if v is None else [("  estimated relative error", f"{v:.1e}", "-")]
+
+    return [
+        ("Shear centre (x, y)", xy(w.shear_centre), u),
+        *est("shear_centre"),
+        ("Warping constant Γ (about shear centre)", f"{w.warping_constant:.6g}", f"{u}^6"),
+        *est("warping_constant"),
+        ("Largest |ω_n| (normalised warping)", f"{w.max_warping:.6g}", f"{u}^2"),
+        ("  at (x, y)", xy(w.max_warping_location), u),
+        ("Second moments I_x, I_y (centroid)", f"{ix:.6g}, {iy:.6g}", f"{u}^4"),
+        ("  product I_xy", f"{ixy:.6g}", f"{u}^4"),
+        ("Principal moments I_max, I_min", f"{w.principal_moments[0]:.6g}, "
+                                           f"{w.principal_moments[1]:.6g}", f"{u}^4"),
+        ("  I_max axis from x (anticlockwise)", f"{math.degrees(w.principal_angle):.4g}", "deg"),
+    ]
 
 
 def json_ready(obj):

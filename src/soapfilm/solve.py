@@ -23,6 +23,7 @@ from .corners import (
     traced_runs,
 )
 from .fem.linsolve import one_blas_thread
+from .fem.sectorial import warping_properties
 from .fem.torsion import (
     TorsionFields,
     boundary_corner_nodes,
@@ -598,6 +599,8 @@ def result_from_mesh(
         corners=corners,
         max_shear_per_torque_warping=peak.value_warping / j,
         converged=converged,
+        warping=warping_properties(mesh, fields, moments=moments, history=refinement,
+                                   diameter=profile.diameter),
     )
 
 
@@ -682,7 +685,7 @@ def far_shift(profile: Profile) -> np.ndarray | None:
 
 
 def _solved_at_origin(profile: Profile, shift: np.ndarray, **options) -> TorsionResult:
-    """Solve the profile moved by ``-shift``; the centroid and peak back where it lies."""
+    """Solve the profile moved by ``-shift``; the centroid, peak and shear centre back where it lies."""
     import dataclasses
 
     local = profile.translated(-float(shift[0]), -float(shift[1]))
@@ -705,12 +708,20 @@ def _solved_at_origin(profile: Profile, shift: np.ndarray, **options) -> Torsion
                else "")
     note = (f"the section lies {far:.3g} {u} from the origin, {far / profile.size:.2g} times "
             f"its size: it was solved moved to the origin (coordinates that far out keep too "
-            f"few digits for a fine mesh){rounded}; the centroid and peak location are given "
+            f"few digits for a fine mesh){rounded}; the centroid, peak location, shear centre and "
+            f"largest warping's place are given "
             f"where the section lies, the mesh, the pictures and other positions relative to "
             f"({shift[0]:.10g}, {shift[1]:.10g}) {u}")
     cx, cy = result.centroid
     px, py = result.peak_location
+    warping = result.warping
+    if warping is not None:
+        sx, sy = warping.shear_centre
+        wx, wy = warping.max_warping_location
+        warping = dataclasses.replace(
+            warping, shear_centre=(sx + float(shift[0]), sy + float(shift[1])),
+            max_warping_location=(wx + float(shift[0]), wy + float(shift[1])))
     return dataclasses.replace(
         result, centroid=(cx + float(shift[0]), cy + float(shift[1])),
-        peak_location=(px + float(shift[0]), py + float(shift[1])),
+        peak_location=(px + float(shift[0]), py + float(shift[1])), warping=warping,
         warnings=(note, *result.warnings))

@@ -21,7 +21,8 @@ __all__ = ["add_output_args", "check_outputs", "write_outputs", "torque_line"]
 
 #: (option, dest) of the options that name an output file
 _FILE_OPTIONS = [("--plot", "plot"), ("--plot-warping", "plot_warping"),
-                 ("--plot-3d", "plot_3d"), ("--report", "report"), ("--mesh-out", "mesh_out")]
+                 ("--plot-sectorial", "plot_sectorial"), ("--plot-3d", "plot_3d"),
+                 ("--report", "report"), ("--mesh-out", "mesh_out")]
 
 
 def add_output_args(p: argparse.ArgumentParser) -> None:
@@ -31,6 +32,9 @@ def add_output_args(p: argparse.ArgumentParser) -> None:
                    help="shear-stress map with shear-flow lines and the peak (.png, .svg, .pdf)")
     g.add_argument("--plot-mesh", action="store_true", help="draw the mesh over the --plot map")
     g.add_argument("--plot-warping", metavar="OUT", help="warping (axial displacement) map")
+    g.add_argument("--plot-sectorial", metavar="OUT",
+                   help="normalised warping omega_n about the shear centre (restrained warping), "
+                        "with the shear centre marked")
     g.add_argument("--plot-3d", metavar="OUT", help="3D view of the stress-function surface")
     g.add_argument("--torque", metavar="T",
                    help="torque, e.g. '320 N*m' or '2800 lbf*in' (a bare number is N*m): the "
@@ -127,6 +131,11 @@ def write_outputs(args, result, inputs: dict | None = None,
         out.stage(args.plot_warping,
                   plots.figure_bytes(ax, plots.figure_format(args.plot_warping)),
                   "--plot-warping")
+    if args.plot_sectorial:
+        ax = plots.plot_sectorial(result)
+        out.stage(args.plot_sectorial,
+                  plots.figure_bytes(ax, plots.figure_format(args.plot_sectorial)),
+                  "--plot-sectorial")
     if args.plot_3d:
         ax = plots.plot_stress_surface(result)
         out.stage(args.plot_3d, plots.figure_bytes(ax, plots.figure_format(args.plot_3d)),

@@ -10,8 +10,8 @@ with a check its headline (PASS or FAIL and what governs), the check table
 (what, value, limit, utilisation, basis) and its inputs with their sources;
 then inputs, section drawing, results (J with its guaranteed bounds and the
 estimated errors, peak shear per unit torque and, with a torque, in stress
-units), shear map, warping map, refinement history (labelled columns with
-units) and warnings.
+units), shear map, warping map, normalised warping about the shear centre,
+refinement history (labelled columns with units) and warnings.
 
 :func:`render_shaft_report` (``shaft --report``): caution, headline, the
 check table, inputs with sources, the shaft figure (side view, internal
@@ -167,7 +167,8 @@ def refinement_table(result) -> str:
     u = result.units
     head = ("step", "elements", "nodes", f"J lower bound [{u}^4]", f"J upper bound [{u}^4]",
             "J bracket (J_hi - J_lo) / J", f"peak shear per unit torque [1/{u}^3]",
-            f"the same, warping function [1/{u}^3]", "estimated peak error (relative)")
+            f"the same, warping function [1/{u}^3]", "estimated peak error (relative)",
+            f"warping constant Γ [{u}^6]")
     rows = []
     for r in result.refinement:
         rows.append((finite_or_dash(r.get("step"), "d"), finite_or_dash(r.get("elements"), "d"),
@@ -176,7 +177,8 @@ def refinement_table(result) -> str:
                      finite_or_dash(r.get("relative_bracket"), ".2e"),
                      finite_or_dash(r.get("max_shear_per_torque"), ".5e"),
                      finite_or_dash(r.get("max_shear_per_torque_warping"), ".5e"),
-                     finite_or_dash(r.get("max_shear_error"), ".2e")))
+                     finite_or_dash(r.get("max_shear_error"), ".2e"),
+                     finite_or_dash(r.get("warping_constant"), ".6g")))
     note = ('<p class="note">One row per adaptive step. The estimated peak error is relative; '
             "it needs an earlier step to compare with, so the first step has none (-). The "
             "refinement stops when the bracket and the peak error are both within the "
@@ -249,7 +251,7 @@ def render_report(result, inputs: dict | None = None, torque: float | None = Non
         A bar's check (:func:`soapfilm.report.checks.section_check_view`):
         its headline, table and inputs come first.
     """
-    from ..plots import draw_section, plot_shear, plot_warping
+    from ..plots import draw_section, plot_sectorial, plot_shear, plot_warping
 
     name = result.profile.name or "section"
     title = title or (check.title if check is not None else f"Torsion report: {name}")
@@ -266,6 +268,13 @@ def render_report(result, inputs: dict | None = None, torque: float | None = Non
     warping = _png_figure(plot_warping(result), "warping map",
                           "Axial (out-of-plane) displacement per unit twist rate, about the "
                           "centroid.")
+    sectorial = ""
+    if result.warping is not None:
+        sectorial = _png_figure(
+            plot_sectorial(result), "normalised warping map",
+            "Normalised warping ω_n about the shear centre (thin-walled theory's principal "
+            "sectorial coordinate): the warping normal stress is B ω_n / Γ for a bimoment B "
+            "where warping is held. Shear centre: cross in a ring.")
     if result.refinement:
         refinement = refinement_table(result)
     else:
@@ -279,7 +288,7 @@ def render_report(result, inputs: dict | None = None, torque: float | None = Non
         f"<h2>Section</h2>\n{section}",
         f"<h2>Results</h2>\n{_results_table(result, torque, stress_unit)}",
         f"<h2>Shear stress</h2>\n{shear}",
-        f"<h2>Warping</h2>\n{warping}",
+        f"<h2>Warping</h2>\n{warping}{sectorial}",
         f"<h2>Refinement history</h2>\n{refinement}",
         f"<h2>Warnings</h2>\n{_warnings_html(result.warnings)}",
     ]
