@@ -374,3 +374,36 @@ def test_member_report_and_plot(tmp_path, capsys):
     assert f"{twist:.4g} deg" in text
     assert svg.read_text(encoding="utf-8").lstrip().startswith(("<?xml", "<svg"))
 
+
+def test_member_file_with_a_channel_uses_the_sections_warping_quantities(tmp_path):
+    """A finite-element channel through a member file: the member takes J, Gamma and
+    max |omega_n| of the section's own result (converted mm -> m), and the tip twist
+    and root bimoment of the welded cantilever are the closed forms of Timoshenko &
+    Gere (2nd ed., ch. 5, from memory) with those numbers."""
+    from soapfilm import analyse, read_section
+
+    sec = tmp_path / "c.toml"
+    sec.write_text('units = "mm"\n[section]\nkind = "channel"\ndepth = 120\n'
+                   "flange_width = 55\nweb_thickness = 7\nflange_thickness = 9\n")
+    f = tmp_path / "m.toml"
+    f.write_text('name = "jib"\ntwist_limit = "2 deg/m"\n[check]\nmaterial = "carbon-steel"\n'
+                 '[[segment]]\nlength = "1.2 m"\nsection = "c.toml"\n'
+                 '[[support]]\nat = 0\nwarping = "held"\n'
+                 '[[load]]\nat = "1.2 m"\ntorque = "100 N*m"\n')
+    out = tmp_path / "m.json"
+    assert main(["member", str(f), "--tol", "1e-2", "--json", str(out), "--quiet"]) == 0
+    doc = json.loads(out.read_text())
+    r = analyse(read_section(sec), tol=1e-2)
+    j, gamma = r.torsion_constant * 1e-12, r.warping.warping_constant * 1e-18
+    seg = doc["segments"][0]
+    np.testing.assert_allclose(seg["section"]["warping_constant_m6"], gamma, rtol=1e-12)
+    np.testing.assert_allclose(seg["section"]["max_warping_m2"], r.warping.max_warping * 1e-6,
+                               rtol=1e-12)
+    lam = math.sqrt(81e9 * j / (210e9 * gamma))  # carbon-steel preset: G 81, E 210 GPa
+    np.testing.assert_allclose(seg["lambda_per_m"], lam, rtol=1e-12)
+    th = math.tanh(lam * 1.2)
+    np.testing.assert_allclose(doc["stations"][-1]["twist_angle_rad"],
+                               100 / (81e9 * j) * (1.2 - th / lam), rtol=1e-9)
+    np.testing.assert_allclose(doc["stations"][0]["bimoment_Nm2"], -100 * th / lam, rtol=1e-9)
+    np.testing.assert_allclose(seg["max_warping_stress_Pa"],
+                               100 * th / lam * r.warping.max_warping * 1e-6 / gamma, rtol=1e-9)
