@@ -57,3 +57,43 @@ def test_energy_estimate_against_the_true_error():
         assert true <= 10.0 * tol * float(bf @ exact)
         assert 0.1 * true <= res.energy_error <= 10.0 * true + 1e-30
     assert ENERGY_TOL <= 1e-12
+
+
+def test_direct_path_against_superlu_and_spsolve(monkeypatch):
+    """The direct solves (qdldl's LDL^T up to linsolve.LDL_LIMIT unknowns) against scipy's
+    SuperLU in symmetric mode (the previous path) and scipy's spsolve (a general LU with
+    partial pivoting): J bounds and both peaks of a quadratic-element section with a
+    bore (its one unknown couples the whole hole loop) within 1e-10 relative."""
+    import qdldl  # noqa: F401  (a declared dependency: the path under test)
+    from shapely.geometry import Point, Polygon, box
+
+    from soapfilm import result_from_mesh
+    from soapfilm.fem import linsolve
+
+    th = np.linspace(0, 2 * np.pi, 256, endpoint=False)
+    shape = Polygon(np.column_stack([20 * np.cos(th), 20 * np.sin(th)])).difference(box(-6, 15, 6, 25))
+    prof = Profile.from_polygon(shape.difference(Point(0, -4).buffer(5, 64)))
+    mesh = mesh_profile(prof, 1.2)
+    assert mesh.nholes == 1
+
+    def values():
+        r = result_from_mesh(prof, mesh, method="direct", order=2)
+        return np.array([*r.torsion_constant_bounds, r.max_shear_per_torque,
+                         r.max_shear_per_torque_warping])
+
+    sizes = []
+    direct = linsolve._direct
+
+    def spy(a, b, **kw):
+        sizes.append(a.shape[0])
+        return direct(a, b, **kw)
+
+    monkeypatch.setattr(linsolve, "_direct", spy)
+    ldl = values()
+    assert len(sizes) == 2 and 5_000 < max(sizes) <= linsolve.LDL_LIMIT  # the LDL^T path ran
+    monkeypatch.setattr(linsolve, "LDL_LIMIT", 0)
+    superlu = values()
+    monkeypatch.setattr(linsolve, "_direct", lambda a, b, ordering=None: spla.spsolve(a.tocsc(), b))
+    general = values()
+    np.testing.assert_allclose(ldl, general, rtol=1e-10, atol=0)
+    np.testing.assert_allclose(superlu, general, rtol=1e-10, atol=0)

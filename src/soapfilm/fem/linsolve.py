@@ -1,6 +1,7 @@
 """Solver for the symmetric positive definite systems of both problems.
 
-Small systems go to a sparse direct factorisation (SuperLU through scipy);
+Small systems go to a sparse direct factorisation (qdldl's LDL^T up to
+``LDL_LIMIT`` unknowns, SuperLU through scipy above);
 large ones to conjugate gradients preconditioned with smoothed-aggregation
 algebraic multigrid (pyamg).  The switch-over size comes from the benchmark
 in ``tests/bench/bench_core.py``; DEVELOPERS.md records the figures.
@@ -21,7 +22,8 @@ import scipy.sparse.linalg as spla
 from ..errors import SolveError
 
 __all__ = ["solve_spd", "DIRECT_LIMIT", "one_blas_thread", "fixed_random_state", "AMG_SEED", "pcg",
-           "PCGResult", "ENERGY_TOL", "FALLBACK_DIRECT_LIMIT", "cg_or_direct", "amg_hierarchy"]
+           "PCGResult", "ENERGY_TOL", "FALLBACK_DIRECT_LIMIT", "cg_or_direct", "amg_hierarchy",
+           "LDL_LIMIT"]
 
 log = logging.getLogger(__name__)
 
@@ -175,12 +177,32 @@ def cg_or_direct(a, b, precond, energy_tol: float | str | None, x0=None,
 SUPERLU_RELAX, SUPERLU_PANEL = 1, 4
 
 
+#: Unknowns up to which the direct solves factorise with qdldl's LDL^T (its own AMD
+#: ordering) instead of SuperLU: 1.3-1.8x faster on the quadratic systems of 6 k to 60 k
+#: unknowns, the same fill (``tests/bench/bench_ordering.py``; DEVELOPERS.md, "Core").
+LDL_LIMIT = 60_000
+
+
 def _direct(a: sp.csr_matrix, b: np.ndarray, ordering: str = "MMD_AT_PLUS_A") -> np.ndarray:
-    """SuperLU in symmetric mode (no pivoting, a minimum-degree ordering of A + A^T)."""
+    """Sparse direct solve of an SPD system.
+
+    Up to :data:`LDL_LIMIT` unknowns qdldl's LDL^T with an approximate minimum degree
+    ordering (no pivoting: the matrix is SPD, so D stays positive); above it, or
+    without qdldl, SuperLU in symmetric mode (no pivoting, a minimum-degree ordering
+    of A + A^T).
+    """
+    b = np.asarray(b, dtype=np.float64)
+    if a.shape[0] <= LDL_LIMIT:
+        try:
+            import qdldl
+        except ImportError:  # a declared dependency; SuperLU gives the same field
+            qdldl = None
+        if qdldl is not None:
+            return qdldl.Solver(sp.csc_matrix(a)).solve(b)
     lu = spla.splu(a.tocsc(), permc_spec=ordering, diag_pivot_thresh=0.0,
                    relax=SUPERLU_RELAX, panel_size=SUPERLU_PANEL,
                    options={"SymmetricMode": True})
-    return lu.solve(np.asarray(b, dtype=np.float64))
+    return lu.solve(b)
 
 
 @contextlib.contextmanager
@@ -303,8 +325,8 @@ def _solve_spd(a: sp.spmatrix, b: np.ndarray, method: str, rtol: float,
     if method == "auto":
         method = "direct" if n <= DIRECT_LIMIT else "amg"
     if method == "direct":
-        # symmetric mode: a minimum-degree ordering of A + A^T and no pivoting, right for SPD
-        # matrices and 1.5-2x faster than the general default here
+        # no pivoting and a minimum-degree ordering (LDL^T, or SuperLU in symmetric
+        # mode): right for SPD matrices and 1.5-2x faster than SuperLU's general default
         return _direct(a, b)
     if method != "amg":
         raise ValueError(f"unknown method {method!r}")
