@@ -27,13 +27,12 @@ import time
 
 import numpy as np
 import scipy.sparse.linalg as spla
+from bench_core import keyed_section  # noqa: E402  (same folder)
 
 from soapfilm import mesh_profile
 from soapfilm.fem import p1
 from soapfilm.fem.linsolve import amg_hierarchy, one_blas_thread, solve_spd
 from soapfilm.fem.torsion import section_centroid, stress_function_system
-
-from bench_core import keyed_section  # noqa: E402  (same folder)
 
 
 def ours(mesh):
