@@ -255,6 +255,11 @@ def _warping_rows(w: WarpingProperties | None, u: str, xy) -> list[tuple[str, st
         return []
     err = w.estimated_relative_error
     ix, iy, ixy = w.second_moments
+    # rounding noise of the moment sums (a few eps of I_x + I_y) is written as 0, like the
+    # coordinates' (the JSON keeps the numbers as computed)
+    noise = 1e-12 * (abs(ix) + abs(iy))
+    ixy_shown = 0.0 if abs(ixy) <= noise else ixy
+    angle = 0.0 if ixy_shown == 0.0 and ix >= iy else math.degrees(w.principal_angle)
 
     def est(key):
         v = err.get(key)
@@ -263,15 +268,15 @@ def _warping_rows(w: WarpingProperties | None, u: str, xy) -> list[tuple[str, st
     return [
         ("Shear centre (x, y)", xy(w.shear_centre), u),
         *est("shear_centre"),
-        ("Warping constant Γ (about shear centre)", f"{w.warping_constant:.6g}", f"{u}^6"),
+        ("Warping constant Γ", f"{w.warping_constant:.6g}", f"{u}^6"),
         *est("warping_constant"),
         ("Largest |ω_n| (normalised warping)", f"{w.max_warping:.6g}", f"{u}^2"),
         ("  at (x, y)", xy(w.max_warping_location), u),
         ("Second moments I_x, I_y (centroid)", f"{ix:.6g}, {iy:.6g}", f"{u}^4"),
-        ("  product I_xy", f"{ixy:.6g}", f"{u}^4"),
+        ("  product I_xy", f"{ixy_shown:.6g}", f"{u}^4"),
         ("Principal moments I_max, I_min", f"{w.principal_moments[0]:.6g}, "
                                            f"{w.principal_moments[1]:.6g}", f"{u}^4"),
-        ("  I_max axis from x (anticlockwise)", f"{math.degrees(w.principal_angle):.4g}", "deg"),
+        ("  I_max axis from x (anticlockwise)", f"{angle:.4g}", "deg"),
     ]
 
 
