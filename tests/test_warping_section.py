@@ -404,3 +404,21 @@ def test_turned_and_moved_channel(channel_results):
     assert q.warping.principal_angle == pytest.approx(math.radians(30.0), abs=1e-9)
     np.testing.assert_allclose(q.warping.principal_moments, r.warping.principal_moments,
                                rtol=1e-9)
+
+
+def test_round_tube_table_says_no_warping_and_any_principal_axis():
+    """A round tube does not warp: its warping function is zero (Timoshenko & Goodier, Theory
+    of Elasticity, 3rd ed., 1970, sec. 104, circular and hollow circular sections), so Gamma
+    is zero within its estimate, and its two principal moments are equal, so no axis is
+    principal more than another. The table says both rather than printing noise as a value."""
+    from soapfilm.shapes import tube
+
+    r = analyse(tube(40.0, 5.0), tol=1e-3)
+    rows = {label.strip(): value for label, value, _ in r.summary_rows()}
+    assert r.warping.estimated_relative_error["warping_constant"] >= 1.0
+    assert rows["Γ zero within its estimate"] == "section does not warp"
+    assert rows["I_max axis from x (anticlockwise)"] == "any (I_max = I_min)"
+    c = channel(120.0, 55.0, 7.0, 9.0)  # warps: neither row
+    rows = {label.strip(): value for label, value, _ in analyse(c, tol=1e-2).summary_rows()}
+    assert "Γ zero within its estimate" not in rows
+    assert rows["I_max axis from x (anticlockwise)"] == "0"

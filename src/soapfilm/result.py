@@ -259,7 +259,15 @@ def _warping_rows(w: WarpingProperties | None, u: str, xy) -> list[tuple[str, st
     # coordinates' (the JSON keeps the numbers as computed)
     noise = 1e-12 * (abs(ix) + abs(iy))
     ixy_shown = 0.0 if abs(ixy) <= noise else ixy
-    angle = 0.0 if ixy_shown == 0.0 and ix >= iy else math.degrees(w.principal_angle)
+    imax, imin = w.principal_moments
+    if imax - imin <= noise:  # equal principal moments (round, square, regular polygon)
+        angle_shown = "any (I_max = I_min)"
+    else:
+        angle = 0.0 if ixy_shown == 0.0 and ix >= iy else math.degrees(w.principal_angle)
+        angle_shown = f"{angle:.4g}"
+    g_err = err.get("warping_constant")
+    flat = ([("  Γ zero within its estimate", "section does not warp", "")]
+            if g_err is not None and g_err >= 1.0 else [])
 
     def est(key):
         v = err.get(key)
@@ -270,13 +278,14 @@ def _warping_rows(w: WarpingProperties | None, u: str, xy) -> list[tuple[str, st
         *est("shear_centre"),
         ("Warping constant Γ", f"{w.warping_constant:.6g}", f"{u}^6"),
         *est("warping_constant"),
+        *flat,
         ("Largest |ω_n| (normalised warping)", f"{w.max_warping:.6g}", f"{u}^2"),
         ("  at (x, y)", xy(w.max_warping_location), u),
         ("Second moments I_x, I_y (centroid)", f"{ix:.6g}, {iy:.6g}", f"{u}^4"),
         ("  product I_xy", f"{ixy_shown:.6g}", f"{u}^4"),
         ("Principal moments I_max, I_min", f"{w.principal_moments[0]:.6g}, "
                                            f"{w.principal_moments[1]:.6g}", f"{u}^4"),
-        ("  I_max axis from x (anticlockwise)", f"{angle:.4g}", "deg"),
+        ("  I_max axis from x (anticlockwise)", angle_shown, "deg"),
     ]
 
 
