@@ -355,6 +355,7 @@ def test_member_json_with_warping_matches_readme():
                         (MemberSupport("wall", 0.0, True, True),), math.radians(1.0), "test")
     doc = json.loads(json.dumps(member_json(analyse_member(model))))
     check_document(doc, "member")
+    assert "restrained warping" in doc["caution"]
     seg = doc["segments"][0]
     assert seg["warping_counted"] and seg["lambda_per_m"] == pytest.approx(LAM, rel=1e-12)
 
@@ -370,6 +371,8 @@ def test_member_report_and_plot(tmp_path, capsys):
     assert main(["member", str(f), "--report", str(rep), "--plot", str(svg), "--quiet"]) == 0
     text = rep.read_text(encoding="utf-8")
     assert "PASS" in text and "data:image/png;base64," in text and "Stations" in text
+    # the caution names what restrained-warping theory leaves out (common practice, no source)
+    assert "restrained warping" in text and "buckling" in text
     twist = math.degrees(100 * 1.0 / (81e9 * math.pi * 0.04**4 / 32))
     assert f"{twist:.4g} deg" in text
     assert svg.read_text(encoding="utf-8").lstrip().startswith(("<?xml", "<svg"))

@@ -7,8 +7,8 @@ from here (``soapfilm.adapt``, ``soapfilm.solve``, ``soapfilm.profile``).
 
 from __future__ import annotations
 
-__all__ = ["CAUTION", "LENGTH_UNITS", "DEFAULT_TOL", "DEFAULT_MAX_ELEMENTS", "DEFAULT_ORDER",
-           "DEFAULT_MEMORY", "MEMORY_ENV", "VERSION"]
+__all__ = ["CAUTION", "MEMBER_CAUTION", "LENGTH_UNITS", "DEFAULT_TOL", "DEFAULT_MAX_ELEMENTS",
+           "DEFAULT_ORDER", "DEFAULT_MEMORY", "MEMORY_ENV", "VERSION"]
 
 #: Length units a section may be given in, with their size in metres.
 LENGTH_UNITS = {"mm": 1e-3, "cm": 1e-2, "m": 1.0, "in": 0.0254, "ft": 0.3048}
@@ -31,4 +31,14 @@ CAUTION = (
     "Linear-elastic Saint-Venant torsion of a prismatic bar: no fatigue, no stress raisers "
     "outside this section (keyway ends, shoulders, holes across the bar). Verify against the "
     "governing design code and licensed engineering practice before use."
+)
+
+#: The caution of a member in non-uniform torsion (``member``): the same, plus what the
+#: restrained-warping theory leaves out.
+MEMBER_CAUTION = (
+    "Linear-elastic torsion of a prismatic member: Saint-Venant torsion plus restrained warping "
+    "by thin-walled bar theory (no distortion of the section, no interaction with bending or "
+    "buckling, no local effects at the supports or load points), no fatigue, no stress raisers "
+    "outside the section. Verify against the governing design code and licensed engineering "
+    "practice before use."
 )

@@ -5,7 +5,7 @@ from __future__ import annotations
 import argparse
 from typing import TYPE_CHECKING
 
-from ..defaults import CAUTION
+from ..defaults import MEMBER_CAUTION as CAUTION
 from ..errors import InputError
 from ..units import UnitSystem, parse_positive
 from ._inputs import add_input_args, input_options

@@ -209,7 +209,8 @@ def _warnings_html(warnings) -> str:
     return '<p class="none">No warnings.</p>'
 
 
-def _page(title: str, body: str, footer: str, generated: str | None) -> str:
+def _page(title: str, body: str, footer: str, generated: str | None,
+          caution: str = CAUTION) -> str:
     from .. import __version__
 
     if generated is None:
@@ -219,7 +220,7 @@ def _page(title: str, body: str, footer: str, generated: str | None) -> str:
         version=html.escape(__version__),
         title=html.escape(title),
         generated=html.escape(generated),
-        caution=html.escape(CAUTION),
+        caution=html.escape(caution),
         body=body,
         footer=html.escape(footer),
     )

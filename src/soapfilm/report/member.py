@@ -104,4 +104,7 @@ def render_member_report(view: ShaftView, figure_png: bytes | None = None,
     footer = ("Non-uniform torsion E Gamma phi'''' - G J phi'' = m solved in closed form per "
               "segment (Timoshenko & Gere, Theory of Elastic Stability, 2nd ed., ch. 5); "
               "sections by finite elements or the closed forms of the circle.")
-    return _page(view.title, "\n\n".join(parts) + "\n", footer, generated)
+    from ..defaults import MEMBER_CAUTION
+
+    return _page(view.title, "\n\n".join(parts) + "\n", footer, generated,
+                 caution=MEMBER_CAUTION)
