@@ -10,6 +10,7 @@ rule must give J within 1e-10 of the tight one; the peak, linear in the field, w
 from __future__ import annotations
 
 import numpy as np
+import pytest
 import scipy.sparse.linalg as spla
 
 from soapfilm import Profile, mesh_profile
@@ -59,11 +60,14 @@ def test_energy_estimate_against_the_true_error():
     assert ENERGY_TOL <= 1e-12
 
 
-def test_direct_path_against_superlu_and_spsolve(monkeypatch):
-    """The direct solves (qdldl's LDL^T up to linsolve.LDL_LIMIT unknowns) against scipy's
-    SuperLU in symmetric mode (the previous path) and scipy's spsolve (a general LU with
-    partial pivoting): J bounds and both peaks of a quadratic-element section with a
-    bore (its one unknown couples the whole hole loop) within 1e-10 relative."""
+@pytest.mark.parametrize("bore", [True, False])
+def test_direct_path_against_superlu_and_spsolve(monkeypatch, bore):
+    """The direct solves against scipy's SuperLU in symmetric mode (the previous path)
+    and scipy's spsolve (a general LU with partial pivoting): J bounds and both peaks
+    of a quadratic-element section within 1e-10 relative.  With a bore (its one unknown
+    couples the whole hole loop) the two fields go through qdldl's LDL^T separately
+    (up to linsolve.LDL_LIMIT unknowns); without holes through solve_pinned_pair (one
+    symbolic factorisation, the second numeric only)."""
     import qdldl  # noqa: F401  (a declared dependency: the path under test)
     from shapely.geometry import Point, Polygon, box
 
@@ -72,9 +76,11 @@ def test_direct_path_against_superlu_and_spsolve(monkeypatch):
 
     th = np.linspace(0, 2 * np.pi, 256, endpoint=False)
     shape = Polygon(np.column_stack([20 * np.cos(th), 20 * np.sin(th)])).difference(box(-6, 15, 6, 25))
-    prof = Profile.from_polygon(shape.difference(Point(0, -4).buffer(5, 64)))
+    if bore:
+        shape = shape.difference(Point(0, -4).buffer(5, 64))
+    prof = Profile.from_polygon(shape)
     mesh = mesh_profile(prof, 1.2)
-    assert mesh.nholes == 1
+    assert mesh.nholes == int(bore)
 
     def values():
         r = result_from_mesh(prof, mesh, method="direct", order=2)
@@ -89,11 +95,15 @@ def test_direct_path_against_superlu_and_spsolve(monkeypatch):
         return direct(a, b, **kw)
 
     monkeypatch.setattr(linsolve, "_direct", spy)
-    ldl = values()
-    assert len(sizes) == 2 and 5_000 < max(sizes) <= linsolve.LDL_LIMIT  # the LDL^T path ran
+    new = values()
+    if bore:  # the LDL^T path ran, once per field
+        assert len(sizes) == 2 and 5_000 < max(sizes) <= linsolve.LDL_LIMIT
+    else:  # the pair ran, no separate factorisation
+        assert sizes == []
     monkeypatch.setattr(linsolve, "LDL_LIMIT", 0)
     superlu = values()
+    assert len(sizes) == (4 if bore else 2)  # SuperLU, separately
     monkeypatch.setattr(linsolve, "_direct", lambda a, b, ordering=None: spla.spsolve(a.tocsc(), b))
     general = values()
-    np.testing.assert_allclose(ldl, general, rtol=1e-10, atol=0)
+    np.testing.assert_allclose(new, general, rtol=1e-10, atol=0)
     np.testing.assert_allclose(superlu, general, rtol=1e-10, atol=0)

@@ -13,18 +13,32 @@ time of ordering + factorisation + one solve and the fill, for
   smaller side that touch the other), then SuperLU natural;
 * ``mesh1``: ``coord`` computed once on the whole P2 node set and restricted to each
   system's unknowns (one ordering per mesh for both fields), then SuperLU natural;
+* ``p1nd`` / ``p1metis``: a nested dissection of the P1 vertex graph (ours from the
+  coordinates / METIS), carried to the P2 nodes (a mid-node after its earlier corner),
+  once per mesh for both fields, then SuperLU natural;
+* ``mmd-num``: SuperLU's numeric work alone (MMD's order given): what reusing an
+  ordering could save;
 * ``qdldl``: LDL^T with its own AMD ordering (qdldl), and ``qdldl-re``: its
   numeric refactorisation on the same pattern (``update``: the symbolic part reused).
 
+``--end-to-end``: ``analyse(..., tol=1e-4)`` and ``solve_torsion_p2`` on the adaptive
+meshes of the mixer drawing and the keyed shafts, SuperLU against qdldl against qdldl
+with both fields on one symbolic factorisation (``linsolve.solve_pinned_pair``).
+
 The systems: the keyed-shaft drawing ``shapes/mixer-paddle-shaft.dxf --layer OUTLINE``
 along its adaptive run at tol 1e-4; the 40 mm keyed shaft of bench_core /
-bench_solver_choice (a 1024-point circle less a 12 x 10 keyway) and a 40 mm round
+bench_solver_choice (a 1024-point circle less a 12 x 5 keyway) and a 40 mm round
 with a bore and four 6 mm holes, meshed to about 5 k, 20 k, 60 k, 150 k and 400 k
-P2 unknowns.  CPU time (``time.process_time``), BLAS held to one thread as the
+P2 unknowns (the smallest held at about 10 k by the boundary points).  CPU time
+(``time.process_time``), BLAS held to one thread as the
 solver runs it, median and min-max of ``--runs`` (3).  Optional packages missing
 are skipped.
 
     python tests/bench/bench_ordering.py [--runs 3] [--sizes 5000,20000,...] [--cases mixer,keyed,holes]
+        [--only mmd,qdldl,...]
+    python tests/bench/bench_ordering.py --end-to-end [--runs 5]
+
+pymetis is not a dependency (no Windows wheel): install it by hand to measure METIS.
 """
 
 from __future__ import annotations
@@ -73,8 +87,8 @@ def _systems_of(mesh):
     # unknown -> P2 node (-1 for a hole's unknown), for the one-per-mesh ordering
     s_nodes = np.concatenate([free, -np.ones(nh, dtype=np.int64)])
     w_nodes = np.arange(1, nodes.nnodes)
-    return [("phi", ks, bs, np.vstack([xy[free], hole_xy]), s_nodes, xy),
-            ("w", kw_, bw, xy[1:], w_nodes, xy)]
+    return [("phi", ks, bs, np.vstack([xy[free], hole_xy]), s_nodes, xy, (mesh, nodes)),
+            ("w", kw_, bw, xy[1:], w_nodes, xy, (mesh, nodes))]
 
 
 def keyed_profile():
@@ -245,6 +259,36 @@ def run_mesh1(a, b, unk, rank, **_):
     return _run_perm(a, b, np.argsort(key, kind="stable"))
 
 
+def p1_dissection_key(mesh, nodes, leaf=16, metis=False):
+    """Elimination key of every P2 node from a nested dissection of the P1 vertices.
+
+    Vertex v: ``2 rank(v)``; the mid-node of edge (u, v): ``2 min(rank) + 1``, just
+    after its earlier corner.  A mid-node between a part and a separator vertex goes
+    with the part (its elements hold only that part's and the separator's nodes), so
+    the P2 separators are the P1 ones plus the mid-nodes of their own edges.
+    """
+    n = mesh.nnodes
+    e = nodes.edges.astype(np.int64)
+    g = sp.coo_matrix((np.ones(e.shape[1]), (e[0], e[1])), shape=(n, n))
+    g = (g + g.T).tocsr()
+    if metis:
+        import pymetis
+
+        order, _ = pymetis.nested_dissection(pymetis.CSRAdjacency(g.indptr, g.indices))
+        order = np.asarray(order, dtype=np.int64)
+    else:
+        order = coordinate_dissection(g, mesh.p.T, leaf=leaf)
+    rank = np.empty(n, dtype=np.int64)
+    rank[order] = np.arange(n)
+    return np.concatenate([2 * rank, 2 * np.minimum(rank[e[0]], rank[e[1]]) + 1])
+
+
+def run_keyed(a, b, unk, key, **_):
+    # the mesh's key restricted to this system's unknowns; holes last
+    k = np.where(unk >= 0, key[np.maximum(unk, 0)], key.max() + 1 + np.arange(len(unk)))
+    return _run_perm(a, b, np.argsort(k, kind="stable"))
+
+
 def run_qdldl(a, b, **_):
     import qdldl
 
@@ -270,17 +314,21 @@ def prepare(name, a):
         import qdldl
 
         return qdldl.Solver(sp.csc_matrix(a))
+    if name in ("p1nd", "p1metis"):
+        return None
     if name == "mmd-num":
         return np.argsort(superlu(a).perm_c)
     return None
 
 
 def available():
-    cands = {"mmd": run_mmd, "mmd-num": run_mmd_num, "coord": run_coord, "mesh1": run_mesh1}
+    cands = {"mmd": run_mmd, "mmd-num": run_mmd_num, "coord": run_coord, "mesh1": run_mesh1,
+             "p1nd": run_keyed}
     try:
         import pymetis  # noqa: F401
 
         cands["metis"] = run_metis
+        cands["p1metis"] = run_keyed
     except ImportError:
         print("pymetis not installed: metis skipped")
     try:
@@ -305,27 +353,43 @@ def measure(label, systems, cands, runs):
         t0 = time.process_time()
         rank = mesh_order_rank(xy_all, k_all)
         rank_time.append(time.process_time() - t0)
-    for what, a, b, xy, unk, _ in systems:
+    mesh, nodes = systems[0][6]
+    keys, key_time = {}, {}
+    for name in ("p1nd", "p1metis"):
+        if name in cands:
+            ts = []
+            for _ in range(runs):
+                t0 = time.process_time()
+                keys[name] = p1_dissection_key(mesh, nodes, metis=name == "p1metis")
+                ts.append(time.process_time() - t0)
+            key_time[name] = statistics.median(ts)
+    for what, a, b, xy, unk, _, _ in systems:
         ref = None
         for name, fn in cands.items():
             ts, fill, err = [], None, None
             prepared = prepare(name, a)
             for _ in range(runs):
                 t0 = time.process_time()
-                x, fill = fn(a, b, xy=xy, unk=unk, rank=rank, prepared=prepared)
+                x, fill = fn(a, b, xy=xy, unk=unk, rank=rank, prepared=prepared, key=keys.get(name))
                 ts.append(time.process_time() - t0)
             if ref is None:
                 ref = x
             err = float(np.abs(x - ref).max() / np.abs(ref).max())
             med = statistics.median(ts)
             extra = f" (+ mesh order {statistics.median(rank_time):.3f})" if name == "mesh1" else ""
+            if name in key_time:
+                extra = f" (+ mesh order {key_time[name]:.3f})"
             print(f"{label:>14s} {what:>3s} {a.shape[0]:8d} {name:>8s} {med:8.3f} "
                   f"[{min(ts):.3f}-{max(ts):.3f}] s  fill {fill / 1e6:7.2f} M  "
                   f"dx {err:.1e}{extra}", flush=True)
 
 
 def end_to_end(runs):
-    """The adaptive runs to tol 1e-4 and their meshes' solves, SuperLU against qdldl.
+    """The adaptive runs to tol 1e-4 and their meshes' solves: SuperLU, qdldl, qdldl + pair.
+
+    "qdldl+pair": a section without holes solves both fields with one symbolic
+    factorisation (``linsolve.solve_pinned_pair``); the other two paths replace it by
+    two separate factorisations of the reduced systems.
 
     CPU of ``analyse(..., tol=1e-4)`` and of ``solve_torsion_p2`` summed over the
     run's meshes, median [min-max] of ``runs``, the two paths alternating; the
@@ -338,8 +402,18 @@ def end_to_end(runs):
     sys.path.insert(0, str(Path(__file__).parent))
     from bench_adaptive import keyed_section
 
-    paths = (("superlu", 0), ("qdldl", 10**9))
-    keep = linsolve.LDL_LIMIT
+    paths = (("superlu", 0), ("qdldl", 10**9), ("qdldl+pair", 10**9))
+    keep, pair = linsolve.LDL_LIMIT, linsolve.solve_pinned_pair
+
+    def separate(k, fixed_a, b_a, fixed_b, b_b):
+        """The pair as two separate factorisations of the reduced systems."""
+        out = []
+        for fixed, b in ((fixed_a, b_a), (fixed_b, b_b)):
+            free = np.setdiff1d(np.arange(k.shape[0]), fixed)
+            x = np.zeros(k.shape[0])
+            x[free] = linsolve.solve_spd(sp.csr_matrix(k)[free][:, free], b[free], method="direct")
+            out.append(x)
+        return out
     try:
         from soapfilm.shapes.shafts import keyed_shaft
 
@@ -353,6 +427,7 @@ def end_to_end(runs):
             for _ in range(runs):
                 for path, limit in paths:
                     linsolve.LDL_LIMIT = limit
+                    linsolve.solve_pinned_pair = pair if path.endswith("pair") else separate
                     t0 = time.process_time()
                     r = analyse(prof, tol=1e-4)
                     t_run[path].append(time.process_time() - t0)
@@ -368,15 +443,18 @@ def end_to_end(runs):
                 print(f"  {path:>8s}: analyse {statistics.median(a):.3f} [{min(a):.3f}-{max(a):.3f}] s"
                       f"  solve_torsion_p2 summed {statistics.median(f):.3f} "
                       f"[{min(f):.3f}-{max(f):.3f}] s")
-            ra, rb = res["superlu"], res["qdldl"]
+            ra = res["superlu"]
             va = [*ra.torsion_constant_bounds, ra.max_shear_per_torque, ra.max_shear_per_torque_warping]
-            vb = [*rb.torsion_constant_bounds, rb.max_shear_per_torque, rb.max_shear_per_torque_warping]
-            rel = np.abs(np.subtract(vb, va)) / np.abs(va)
-            print(f"  J_lo, J_hi, peak, peak (warping): superlu {va}\n  relative change "
-                  f"{', '.join(f'{x:.1e}' for x in rel)}; elements {ra.mesh.nelements} / "
-                  f"{rb.mesh.nelements}", flush=True)
+            print(f"  J_lo, J_hi, peak, peak (warping): superlu {va}")
+            for path in ("qdldl", "qdldl+pair"):
+                rb = res[path]
+                vb = [*rb.torsion_constant_bounds, rb.max_shear_per_torque,
+                      rb.max_shear_per_torque_warping]
+                rel = np.abs(np.subtract(vb, va)) / np.abs(va)
+                print(f"  {path}: relative change {', '.join(f'{x:.1e}' for x in rel)}; elements "
+                      f"{ra.mesh.nelements} / {rb.mesh.nelements}", flush=True)
     finally:
-        linsolve.LDL_LIMIT = keep
+        linsolve.LDL_LIMIT, linsolve.solve_pinned_pair = keep, pair
 
 
 def main(argv=None):

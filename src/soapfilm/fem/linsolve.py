@@ -23,7 +23,7 @@ from ..errors import SolveError
 
 __all__ = ["solve_spd", "DIRECT_LIMIT", "one_blas_thread", "fixed_random_state", "AMG_SEED", "pcg",
            "PCGResult", "ENERGY_TOL", "FALLBACK_DIRECT_LIMIT", "cg_or_direct", "amg_hierarchy",
-           "LDL_LIMIT"]
+           "LDL_LIMIT", "solve_pinned_pair"]
 
 log = logging.getLogger(__name__)
 
@@ -203,6 +203,57 @@ def _direct(a: sp.csr_matrix, b: np.ndarray, ordering: str = "MMD_AT_PLUS_A") ->
                    relax=SUPERLU_RELAX, panel_size=SUPERLU_PANEL,
                    options={"SymmetricMode": True})
     return lu.solve(b)
+
+
+def _pinned(k: sp.csc_matrix, fixed: np.ndarray) -> sp.csc_matrix:
+    """``k`` with the rows and columns of ``fixed`` turned into the identity, pattern kept.
+
+    The entries are zeroed, not removed, so every such matrix of one ``k`` has the same
+    pattern (the condition for :func:`solve_pinned_pair`'s refactorisation).
+    """
+    k = k.copy()
+    mask = np.zeros(k.shape[0], dtype=bool)
+    mask[fixed] = True
+    col = np.repeat(np.arange(k.shape[0]), np.diff(k.indptr))
+    row = k.indices
+    k.data[mask[row] | mask[col]] = 0.0
+    k.data[(row == col) & mask[row]] = 1.0
+    return k
+
+
+def solve_pinned_pair(k, fixed_a, b_a, fixed_b, b_b) -> tuple[np.ndarray, np.ndarray]:
+    """Two SPD solves with one matrix and different nodes held at zero, one symbolic set-up.
+
+    Solves ``k x = b`` on the nodes not in ``fixed`` with ``x = 0`` on ``fixed``, for
+    ``(fixed_a, b_a)`` and ``(fixed_b, b_b)``: the stress function (boundary held) and
+    the warping function (one node pinned) of a section without holes.  Both systems
+    are ``k`` with their fixed rows and columns replaced by the identity and the
+    pattern kept (:func:`_pinned`), so qdldl's ordering and symbolic factorisation of
+    the first serve the second, whose factorisation is numeric only (``update``):
+    20-25 % less time for the pair than two separate factorisations on the mixer
+    drawing's systems (DEVELOPERS.md, "Core").  ``k`` must hold every diagonal entry.
+    Returns the two full vectors (zero at the fixed nodes).  BLAS on one thread.
+    """
+    import qdldl
+
+    k = sp.csc_matrix(k)
+    k.sum_duplicates()
+    k.sort_indices()
+    out = []
+    with one_blas_thread():
+        solver = None
+        for fixed, b in ((fixed_a, b_a), (fixed_b, b_b)):
+            a = _pinned(k, fixed)
+            rhs = np.array(b, dtype=np.float64)
+            rhs[fixed] = 0.0
+            if solver is None:
+                solver = qdldl.Solver(a)
+            else:
+                solver.update(a)
+            x = solver.solve(rhs)
+            x[fixed] = 0.0
+            out.append(x)
+    return out[0], out[1]
 
 
 @contextlib.contextmanager

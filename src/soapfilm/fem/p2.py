@@ -68,7 +68,7 @@ import scipy.sparse as sp
 from ..errors import SolveError
 from ..geometry.curves import Circle, Curve, Ellipse, Involute, Moved, edge_params
 from ..mesh import Mesh
-from . import p1
+from . import linsolve, p1
 from .linsolve import ENERGY_TOL, amg_hierarchy, cg_or_direct, one_blas_thread, solve_spd
 from .outline import UNIT_ROUNDOFF, Functional
 from .torsion import stress_function_system
@@ -605,7 +605,9 @@ def solve_torsion_p2(mesh: Mesh, method: str = "auto", nodes: P2Nodes | None = N
     mesh : Mesh
         P1 mesh; the mid-nodes are added here.
     method : {"auto", "direct", "amg"}
-        "direct": :func:`soapfilm.fem.linsolve.solve_spd` (SuperLU); "amg":
+        "direct": sparse direct solves (:func:`soapfilm.fem.linsolve.solve_spd`; a
+        section without holes both fields on one symbolic factorisation,
+        :func:`soapfilm.fem.linsolve.solve_pinned_pair`); "amg":
         CG preconditioned with smoothed aggregation built on the P1 matrix
         of the split mesh; "auto" factorises up to :data:`P2_DIRECT_LIMIT`
         unknowns.
@@ -673,14 +675,21 @@ def solve_torsion_p2(mesh: Mesh, method: str = "auto", nodes: P2Nodes | None = N
 
     # ---- stress function
     b = 2.0 * mvec
-    prolong, k_red, b_red = stress_function_system(k, b, nodes.boundary_marker, hole_areas)
-    nfree = k_red.shape[0] - mesh.nholes
-    if method == "amg":
-        x = _solve_amg(k_red, (prolong.T @ k_pre @ prolong).tocsr(), b_red, "bx")
+    # without holes both direct solves are k with some nodes held: one symbolic set-up
+    pair = method == "direct" and mesh.nholes == 0 and n <= linsolve.LDL_LIMIT
+    if pair:
+        held = np.flatnonzero(nodes.boundary_marker != 0)
+        phi, w_pair = linsolve.solve_pinned_pair(k, held, b, np.array([0]), f)
+        hole_values = np.zeros(0)
     else:
-        x = solve_spd(k_red, b_red, method="direct")
-    phi = prolong @ x
-    hole_values = x[nfree:].copy()
+        prolong, k_red, b_red = stress_function_system(k, b, nodes.boundary_marker, hole_areas)
+        nfree = k_red.shape[0] - mesh.nholes
+        if method == "amg":
+            x = _solve_amg(k_red, (prolong.T @ k_pre @ prolong).tocsr(), b_red, "bx")
+        else:
+            x = solve_spd(k_red, b_red, method="direct")
+        phi = prolong @ x
+        hole_values = x[nfree:].copy()
     # the functional for any approximate phi (see fem.torsion): 2 l(phi) - a(phi, phi)
     # ---- warping function, then mean zero.  Direct: corner node 0 pinned.
     # AMG: the singular Neumann system with the load projected on the range
@@ -688,6 +697,8 @@ def solve_torsion_p2(mesh: Mesh, method: str = "auto", nodes: P2Nodes | None = N
     # AMG-CG down by an order of magnitude.
     if method == "amg":
         w = _solve_amg(k, k_pre, f - f.mean(), ENERGY_TOL * abs(float(b_red @ x)))
+    elif pair:
+        w = w_pair
     else:
         w = np.zeros(n)
         w[1:] = solve_spd(k[1:, 1:], f[1:], method="direct")
