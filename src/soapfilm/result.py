@@ -234,11 +234,15 @@ def _warping_dict(w: WarpingProperties | None) -> dict | None:
     """The JSON object ``warping`` (README, "JSON output"), or None."""
     if w is None:
         return None
+    shear = None if w.does_not_warp else w.max_warping_shear
     return {
         "shear_centre": list(w.shear_centre),
         "warping_constant": w.warping_constant,
         "max_warping": w.max_warping,
         "max_warping_location": list(w.max_warping_location),
+        "max_warping_shear_per_warping_torque": shear,
+        "max_warping_shear_location": (None if shear is None
+                                       else list(w.max_warping_shear_location)),
         "second_moments": list(w.second_moments),
         "principal_angle_deg": math.degrees(w.principal_angle),
         "principal_moments": list(w.principal_moments),
@@ -265,9 +269,8 @@ def _warping_rows(w: WarpingProperties | None, u: str, xy) -> list[tuple[str, st
     else:
         angle = 0.0 if ixy_shown == 0.0 and ix >= iy else math.degrees(w.principal_angle)
         angle_shown = f"{angle:.4g}"
-    g_err = err.get("warping_constant")
-    flat = ([("  Γ zero within its estimate", "section does not warp", "")]
-            if g_err is not None and g_err >= 1.0 else [])
+    flat = [("  Γ zero within its estimate", "section does not warp", "")] \
+        if w.does_not_warp else []
 
     def est(key):
         v = err.get(key)
@@ -281,6 +284,9 @@ def _warping_rows(w: WarpingProperties | None, u: str, xy) -> list[tuple[str, st
         *flat,
         ("Largest |ω_n| (normalised warping)", f"{w.max_warping:.6g}", f"{u}^2"),
         ("  at (x, y)", xy(w.max_warping_location), u),
+        *([] if w.max_warping_shear is None or flat else [
+            ("Warping shear per unit warping torque", f"{w.max_warping_shear:.6g}", f"1/{u}^3"),
+            ("  at (x, y)", xy(w.max_warping_shear_location), u)]),
         ("Second moments I_x, I_y (centroid)", f"{ix:.6g}, {iy:.6g}", f"{u}^4"),
         ("  product I_xy", f"{ixy_shown:.6g}", f"{u}^4"),
         ("Principal moments I_max, I_min", f"{w.principal_moments[0]:.6g}, "

@@ -600,7 +600,8 @@ def result_from_mesh(
         max_shear_per_torque_warping=peak.value_warping / j,
         converged=converged,
         warping=warping_properties(mesh, fields, moments=moments, history=refinement,
-                                   diameter=profile.diameter),
+                                   diameter=profile.diameter, shear=True, corners=corners,
+                                   zone=zone),
     )
 
 
@@ -709,7 +710,7 @@ def _solved_at_origin(profile: Profile, shift: np.ndarray, **options) -> Torsion
     note = (f"the section lies {far:.3g} {u} from the origin, {far / profile.size:.2g} times "
             f"its size: it was solved moved to the origin (coordinates that far out keep too "
             f"few digits for a fine mesh){rounded}; the centroid, peak location, shear centre and "
-            f"largest warping's place are given "
+            f"places of the largest warping and warping shear are given "
             f"where the section lies, the mesh, the pictures and other positions relative to "
             f"({shift[0]:.10g}, {shift[1]:.10g}) {u}")
     cx, cy = result.centroid
@@ -718,9 +719,12 @@ def _solved_at_origin(profile: Profile, shift: np.ndarray, **options) -> Torsion
     if warping is not None:
         sx, sy = warping.shear_centre
         wx, wy = warping.max_warping_location
+        ts = warping.max_warping_shear_location
         warping = dataclasses.replace(
             warping, shear_centre=(sx + float(shift[0]), sy + float(shift[1])),
-            max_warping_location=(wx + float(shift[0]), wy + float(shift[1])))
+            max_warping_location=(wx + float(shift[0]), wy + float(shift[1])),
+            max_warping_shear_location=None if ts is None
+            else (ts[0] + float(shift[0]), ts[1] + float(shift[1])))
     return dataclasses.replace(
         result, centroid=(cx + float(shift[0]), cy + float(shift[1])),
         peak_location=(px + float(shift[0]), py + float(shift[1])), warping=warping,

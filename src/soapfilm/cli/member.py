@@ -72,6 +72,7 @@ def member_json(res: MemberResult) -> dict:
             "section": {**section_json(sec, sec.nominal_diameter),
                         "warping_constant_m6": sec.warping_constant,
                         "max_warping_m2": sec.max_warping,
+                        "max_warping_shear_per_warping_torque_per_m3": sec.max_warping_shear,
                         "size_m": sec.size},
             "material": s.material.label,
             "shear_modulus_Pa": s.material.shear_modulus,
@@ -92,6 +93,8 @@ def member_json(res: MemberResult) -> dict:
             "max_shear_stress_x_m": p.x_max_shear_stress,
             "max_warping_stress_Pa": p.max_warping_stress,
             "max_warping_stress_x_m": p.x_max_warping_stress,
+            "max_warping_shear_stress_Pa": p.max_warping_shear_stress,
+            "max_warping_shear_stress_x_m": p.x_max_warping_shear_stress,
             "equivalent_shear_stress_Pa": p.equivalent_shear_stress,
             "equivalent_shear_stress_x_m": p.x_equivalent,
             "combination": p.combination,
@@ -161,6 +164,7 @@ def print_member(res: MemberResult, sys: UnitSystem, con, view=None) -> None:
     con.print(f"[bold]{e(m.name)}[/]: {n} segment{'s' if n != 1 else ''}, length "
               f"{sys.fmt(m.length, 'length')}, non-uniform torsion")
     short = {"Saint-Venant shear": "tau SV", "warping normal stress": "sigma_w",
+             "warping shear": "tau_w",
              "largest twist": "twist", "largest bimoment": "B", "utilisation": "util.",
              "combined": "tau_eq", "allowable": "allowed", "rotation": "rotation"}
     for title, head, rows, over in view.tables:

@@ -58,7 +58,8 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-__all__ = ["WarpingProperties", "warping_properties", "normalised_warping", "principal_axes"]
+__all__ = ["WarpingProperties", "warping_properties", "normalised_warping", "principal_axes",
+           "warping_shear_function", "warping_shear_gradients"]
 
 
 @dataclass(frozen=True)
@@ -93,6 +94,18 @@ class WarpingProperties:
         bound (the refinement follows J and the peak, not Gamma): measured in
         DEVELOPERS.md ("Restrained warping"), it covered every actual error
         above 3e-7 and fell short on some below.
+    max_warping_shear : float or None
+        Largest warping (secondary) shear stress per unit warping torque,
+        ``max |grad psi| / Gamma`` (1/length^3): under non-uniform torsion the
+        warping shear is ``tau_s = T_w grad(psi) / Gamma`` with the warping
+        torque ``T_w = -E Gamma phi'''`` and ``psi`` from
+        :func:`warping_shear_function`, so its peak is ``|T_w|`` times this,
+        as the Saint-Venant peak is ``|T|`` times the peak per unit torque.
+        Read at the nodes (node-averaged element gradients), away from sharp
+        re-entrant corners, where it is unbounded.  None where not computed
+        (the adaptive steps' own entries).
+    max_warping_shear_location : (float, float) or None
+        Where it is, input coordinates.
     """
 
     shear_centre: tuple[float, float]
@@ -103,6 +116,16 @@ class WarpingProperties:
     principal_angle: float
     principal_moments: tuple[float, float]
     estimated_relative_error: dict = field(default_factory=dict)
+    max_warping_shear: float | None = None
+    max_warping_shear_location: tuple[float, float] | None = None
+
+    @property
+    def does_not_warp(self) -> bool:
+        """Gamma is zero within its estimate (a round bar or tube): omega_n is rounding
+        noise there, and so is the warping shear per unit warping torque (noise over
+        noise squared), which the table and the JSON then leave out."""
+        g_err = self.estimated_relative_error.get("warping_constant")
+        return g_err is not None and g_err >= 1.0
 
 
 # -------------------------------------------------------------- element integrals
@@ -129,6 +152,14 @@ class _Mass:
     ref: np.ndarray  # (k, k)
     idx: np.ndarray  # (C,) curved elements
     curved: np.ndarray  # (k, k, C)
+
+    def times(self, f: np.ndarray) -> np.ndarray:
+        """The load ``int f N_i dA`` of the nodal field ``f``: the mass matrix times ``f``."""
+        fe = f[self.t]  # (k, M)
+        mf = np.einsum("ij,je->ie", self.ref, fe) * self.area
+        if len(self.idx):
+            mf[:, self.idx] = np.einsum("ije,je->ie", self.curved, fe[:, self.idx])
+        return np.bincount(self.t.ravel(), weights=mf.ravel(), minlength=len(f))
 
     def gram(self, fields: np.ndarray) -> np.ndarray:
         """``int f_a f_b dA`` of nodal fields ``fields`` (``(n, N)``): an ``(n, n)`` matrix."""
@@ -198,6 +229,132 @@ def normalised_warping(mesh, fields) -> np.ndarray:
     return -(w - c[0] - c[1] * q[0] - c[2] * q[1]) * (s * s)
 
 
+# -------------------------------------------------------------- warping shear
+def _stiffness(mesh, fields, q: np.ndarray):
+    """Laplace stiffness of ``fields``' elements on nodes ``q``: P1, or P2 with the curved
+    elements isoparametric (the same element matrices as the torsion solve)."""
+    from . import p1
+
+    t6 = getattr(fields, "t6", None)
+    if t6 is None or np.shape(t6)[0] != 6:
+        t = np.asarray(mesh.t)[:3]
+        area, grad = p1.geometry(q, t)
+        return p1.stiffness(t, area, grad, q.shape[1])
+    from .p2 import _coo, _Curved, _element_stiffness
+
+    t6 = np.asarray(t6)
+    area, lgrad = p1.geometry(q, t6[:3])
+    ke = _element_stiffness(area, lgrad)
+    idx = np.flatnonzero(fields.nodes.curved)
+    if len(idx):
+        cu = _Curved.of(q, t6, idx)
+        ke[:, :, idx] = np.einsum("ckqe,clqe,qe->kle", cu.cg, cu.cg, cu.wdet / cu.det ** 2)
+    return _coo(t6, ke, q.shape[1])
+
+
+def _neumann(mesh, fields, k, b: np.ndarray) -> np.ndarray:
+    """The Neumann problem ``k psi = b`` (``sum b = 0``): one node pinned for a direct solve;
+    for large quadratic meshes AMG-CG on the singular system, preconditioned as the torsion
+    solve's (P1 on the mesh split at the mid-nodes)."""
+    from . import linsolve
+
+    n = k.shape[0]
+    psi = np.zeros(n)
+    quadratic = getattr(fields, "order", 1) == 2
+    if quadratic and n > linsolve.DIRECT_LIMIT:
+        from .p2 import P2_DIRECT_LIMIT, _solve_amg, uniformly_refined
+
+        if n > P2_DIRECT_LIMIT:
+            from . import p1
+
+            split = uniformly_refined(mesh, fields.nodes)
+            a1, g1 = p1.geometry(split.p, split.t)
+            return _solve_amg(k, p1.stiffness(split.t, a1, g1, n), b - b.mean(), "bx")
+        psi[1:] = linsolve.solve_spd(k[1:, 1:], b[1:], method="direct")
+        return psi
+    psi[1:] = linsolve.solve_spd(k[1:, 1:], b[1:])
+    return psi
+
+
+def _shear_function_scaled(mesh, fields):
+    """(psi / s^4, nodes / s, s, mass, omega_n / s^2, Gamma / s^6) on the scaled nodes."""
+    mass, q, w, s, c, _ = _projection(mesh, fields)
+    wn = -(w - c[0] - c[1] * q[0] - c[2] * q[1])
+    b = mass.times(wn)
+    psi = _neumann(mesh, fields, _stiffness(mesh, fields, q), b)
+    one = np.ones_like(psi)
+    psi -= float(one @ mass.times(psi)) / float(one @ mass.times(one))  # zero mean
+    gamma = float(mass.gram(wn[None])[0, 0])
+    return psi, q, s, mass, wn, gamma
+
+
+def warping_shear_function(mesh, fields) -> np.ndarray:
+    """``psi`` at the nodes of ``fields`` (length^4): the warping shear's potential.
+
+    ``int grad psi . grad v dA = int omega_n v dA`` for every ``v`` of the
+    element space, zero mean: the Neumann problem ``-Laplace psi = omega_n``,
+    ``d psi / dn = 0`` on every loop, solvable since ``int omega_n = 0``.
+    Under non-uniform torsion the warping shear stress is ``tau_s = T_w grad
+    psi / Gamma`` (DEVELOPERS.md, "Warping shear").
+    """
+    psi, _, s, *_ = _shear_function_scaled(mesh, fields)
+    return psi * s**4
+
+
+def _node_averaged(mesh, fields, q: np.ndarray, u: np.ndarray) -> np.ndarray:
+    """Gradient ``(2, N)`` of the field ``u`` at every node: the element gradients there
+    (P1: constant; P2: at the six local nodes, isoparametric on curved elements) averaged
+    with the element areas as weights, the rule of the P2 boundary peak."""
+    from . import p1
+
+    t6 = getattr(fields, "t6", None)
+    n = q.shape[1]
+    if t6 is None or np.shape(t6)[0] != 6:
+        t = np.asarray(mesh.t)[:3]
+        area, grad = p1.geometry(q, t)
+        g = np.einsum("cie,ie->ce", grad, u[t])[:, None, :].repeat(3, axis=1)  # (2, 3, M)
+    else:
+        from .p2 import NODE_BARY, _gradient_at, _iso_map
+
+        t = np.asarray(t6)
+        area, lgrad = p1.geometry(q, t[:3])
+        g = _gradient_at(t, lgrad, u, NODE_BARY)
+        idx = np.flatnonzero(fields.nodes.curved)
+        if len(idx):
+            _, det, cg = _iso_map(q[:, t[:, idx]], NODE_BARY)
+            g[:, :, idx] = np.einsum("ckqe,ke->cqe", cg, u[t[:, idx]]) / det
+    wts = np.broadcast_to(np.abs(area), t.shape).ravel()
+    wsum = np.bincount(t.ravel(), weights=wts, minlength=n)
+    return np.stack([np.bincount(t.ravel(), weights=(g[c] * wts.reshape(t.shape)).ravel(),
+                                 minlength=n) for c in range(2)]) / np.maximum(wsum, 1e-300)
+
+
+def warping_shear_gradients(mesh, fields) -> np.ndarray:
+    """``grad psi`` at the nodes of ``fields`` (``(2, N)``, length^3), node-averaged:
+    the warping shear stress per unit warping torque there is this over Gamma."""
+    psi, q, s, *_ = _shear_function_scaled(mesh, fields)
+    return _node_averaged(mesh, fields, q, psi) * s**3
+
+
+def _shear_peak(mesh, fields, corners, zone: float):
+    """(max |grad psi| / Gamma in 1/length^3, its node), away from the sharp corners."""
+    psi, q, s, _, _, gamma = _shear_function_scaled(mesh, fields)
+    g = _node_averaged(mesh, fields, q, psi)
+    mag = np.hypot(g[0], g[1])
+    xy = np.asarray(fields.p, float) + np.asarray(fields.origin, float)[:, None]
+    read = np.ones(mag.size, bool)
+    for c in corners:
+        read &= np.hypot(xy[0] - c.x, xy[1] - c.y) > zone
+    if not read.any():  # every node near a corner: read them all
+        read[:] = True
+    k = int(np.flatnonzero(read)[np.argmax(mag[read])])
+    if not gamma > 0.0:
+        return None, k
+    with np.errstate(over="ignore", under="ignore"):
+        value = float(np.float64(mag[k] / gamma) / np.float64(s) ** 3)
+    return value, k
+
+
 def principal_axes(ix: float, iy: float, ixy: float) -> tuple[float, float, float]:
     """``(angle, I_max, I_min)`` from ``I_x = int y^2``, ``I_y = int x^2``, ``I_xy = int x y``.
 
@@ -251,7 +408,8 @@ def history_errors(history: Sequence[dict], gamma: float, diameter: float) -> di
 
 
 def warping_properties(mesh, fields, moments=None, history: Sequence[dict] = (),
-                       diameter: float | None = None) -> WarpingProperties:
+                       diameter: float | None = None, *, shear: bool = False,
+                       corners: Sequence = (), zone: float = 0.0) -> WarpingProperties:
     """Shear centre, warping constant, largest ``|omega_n|`` and second moments.
 
     Parameters
@@ -269,6 +427,14 @@ def warping_properties(mesh, fields, moments=None, history: Sequence[dict] = (),
     diameter : float, optional
         Length the shear centre's error is relative to (default: the
         largest extent of the nodes).
+    shear : bool
+        Also solve for the warping shear (:func:`warping_shear_function`, one
+        more linear solve) and read its peak per unit warping torque.
+    corners, zone : sequence of Corner, float
+        Sharp re-entrant corners (with ``x``, ``y``) and the radius round each
+        left out of that peak, the Saint-Venant peak's rule
+        (:func:`soapfilm.solve.corner_zone_radius`): the warping shear is
+        unbounded there too.
     """
     mass, q, w, s, c, gram = _projection(mesh, fields)
     origin = np.asarray(fields.origin, dtype=float)
@@ -292,6 +458,10 @@ def warping_properties(mesh, fields, moments=None, history: Sequence[dict] = (),
     angle, imax, imin = principal_axes(ix, iy, ixy)
     if diameter is None:
         diameter = float(np.max(np.ptp(np.asarray(fields.p, float), axis=1)))
+    tau_w, tau_where = None, None
+    if shear:
+        tau_w, node = _shear_peak(mesh, fields, corners, zone)
+        tau_where = (float(origin[0] + q[0, node] * s), float(origin[1] + q[1, node] * s))
     return WarpingProperties(
         shear_centre=centre,
         warping_constant=gamma,
@@ -301,4 +471,6 @@ def warping_properties(mesh, fields, moments=None, history: Sequence[dict] = (),
         principal_angle=angle,
         principal_moments=(imax, imin),
         estimated_relative_error=history_errors(history, gamma, diameter),
+        max_warping_shear=tau_w,
+        max_warping_shear_location=tau_where,
     )

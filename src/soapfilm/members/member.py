@@ -5,10 +5,11 @@ distributed torque), torques at stations and supports with their two
 conditions (twist held or free, warping held or free).  :func:`analyse_member`
 splits the segments at every station, solves E Gamma phi'''' - G J phi'' = m
 with :func:`soapfilm.members.warping.solve_member`, and reads the peaks:
-Saint-Venant shear ``tau = (tau_max / T) G J phi'``, warping normal stress
-``sigma_w = B max|omega_n| / Gamma``, their combination against the
-allowable shear, and the twist between neighbouring stations against the
-twist limit.
+Saint-Venant shear ``tau = (tau_max / T) G J phi'``, warping shear
+``tau_w = |T_w| (max tau_s / T_w)`` (the section's largest warping shear per
+unit warping torque), warping normal stress ``sigma_w = B max|omega_n| /
+Gamma``, their combination against the allowable shear, and the twist
+between neighbouring stations against the twist limit.
 
 Which segments count warping: a section with Gamma = 0 (round bars and
 tubes) does not warp; a section whose decay length ``1 / lambda`` is shorter
@@ -41,11 +42,11 @@ WARPING_SIZE_RATIO = 1.0
 #: (the exponentials fall to e^-10 = 4.5e-5 across it)
 SAINT_VENANT_LAMBDA_L = 10.0
 
-#: warping shear is not computed: what the output says instead
+#: a section given without its warping shear (not a finite-element result): what the
+#: output says instead of the warping shear stress
 WARPING_SHEAR_NOTE = (
-    "warping shear stress not computed (it needs the sectorial first moment S_omega of the "
-    "walls, which the section result does not carry); the warping torque -E Gamma phi''' is "
-    "reported instead")
+    "warping shear stress not computed for {names} (the section carries no warping shear per "
+    "unit warping torque); the warping torque -E Gamma phi''' is reported instead")
 
 
 @dataclass(frozen=True)
@@ -110,6 +111,10 @@ class SegmentPeaks:
     equivalent_shear_stress: float    # Pa, combined (see criterion_factor)
     x_equivalent: float
     combination: str
+    #: Pa, |T_w| times the section's warping shear per unit warping torque; None where
+    #: warping is not counted or the section has no warping shear
+    max_warping_shear_stress: float | None = None
+    x_max_warping_shear_stress: float | None = None
 
     @property
     def utilisation(self) -> float:
@@ -195,8 +200,11 @@ class MemberResult:
         return self.utilisation <= 1.0
 
 
-def criterion_factor(allowable: Allowable) -> tuple[float, str]:
+def criterion_factor(allowable: Allowable, warping_shear: bool = False) -> tuple[float, str]:
     """k in tau_eq = sqrt(tau^2 + (sigma / k)^2): the criterion behind the allowable.
+
+    ``warping_shear``: tau is the Saint-Venant plus the warping shear (the words
+    say so).
 
     Distortion energy: sigma_eq = sqrt(sigma^2 + 3 tau^2) <= Sy/n and
     tau_allow = Sy/(sqrt 3 n), so tau_eq = sqrt(tau^2 + sigma^2/3); maximum
@@ -204,9 +212,10 @@ def criterion_factor(allowable: Allowable) -> tuple[float, str]:
     as such is read with distortion energy (Shigley, Mechanical Engineering
     Design, ch. 5).
     """
+    tau = "(tau + tau_w)" if warping_shear else "tau"
     if allowable.criterion == "tresca":
-        return 2.0, "tau_eq = sqrt(tau^2 + (sigma_w/2)^2) (maximum shear)"
-    return math.sqrt(3.0), "tau_eq = sqrt(tau^2 + sigma_w^2/3) (distortion energy)"
+        return 2.0, f"tau_eq = sqrt({tau}^2 + (sigma_w/2)^2) (maximum shear)"
+    return math.sqrt(3.0), f"tau_eq = sqrt({tau}^2 + sigma_w^2/3) (distortion energy)"
 
 
 def _warping_status(seg: MemberSegment) -> tuple[bool, str | None, float | None]:
@@ -300,12 +309,16 @@ def analyse_member(model: MemberModel) -> MemberResult:
         tsv, tw, b = sol.saint_venant_torque[mask], sol.warping_torque[mask], sol.bimoment[mask]
         sec = s.section
         tau = np.abs(tsv) * sec.max_shear_per_torque
-        kf, words = criterion_factor(s.allowable)
+        # warping shear: |T_w| times the section's peak per unit warping torque
+        with_shear = counted and sec.max_warping_shear is not None
+        kf, words = criterion_factor(s.allowable, with_shear)
         if counted:
             sig = np.abs(b) * sec.max_warping / sec.warping_constant
         else:
             sig = np.zeros_like(tau)
-        eq = np.sqrt(tau**2 + (sig / kf) ** 2)
+        tau_w = np.abs(tw) * sec.max_warping_shear if with_shear else np.zeros_like(tau)
+        # both shears and sigma_w as if they met at one point of the section (safe side)
+        eq = np.sqrt((tau + tau_w) ** 2 + (sig / kf) ** 2)
 
         def at_max(v, x=x):
             i = int(np.abs(v).argmax())
@@ -322,7 +335,9 @@ def analyse_member(model: MemberModel) -> MemberResult:
             max_warping_stress=float(sig.max()) if counted else None,
             x_max_warping_stress=at_max(sig)[1] if counted else None,
             equivalent_shear_stress=float(eq.max()), x_equivalent=at_max(eq)[1],
-            combination=words))
+            combination=words,
+            max_warping_shear_stress=float(tau_w.max()) if with_shear else None,
+            x_max_warping_shear_stress=at_max(tau_w)[1] if with_shear else None))
         if counted and lam * s.length > SAINT_VENANT_LAMBDA_L:
             notes.append(f"segment {s.name!r}: lambda L = {lam * s.length:.3g}: it twists as in "
                          "Saint-Venant torsion except within a few 1/lambda = "
@@ -359,10 +374,15 @@ def analyse_member(model: MemberModel) -> MemberResult:
         spans.append(TwistSpan(label[a], label[b_], float(st_x[a]), float(st_x[b_]),
                                float(phi.max() - phi.min()),
                                model.twist_limit * max(length, model.twist_basis)))
-    if any(sp.warping_counted for sp in seg_peaks):
-        notes.append(WARPING_SHEAR_NOTE)
-        notes.append("stress check: the peaks of Saint-Venant shear and warping normal stress "
-                     "are combined at each place along the member as if they acted at one point "
-                     f"of the section ({seg_peaks[0].combination}), which is on the safe side")
+    counted = [sp for sp in seg_peaks if sp.warping_counted]
+    without = [sp.segment.name for sp in counted if sp.max_warping_shear_stress is None]
+    if without:
+        notes.append(WARPING_SHEAR_NOTE.format(names=", ".join(repr(n) for n in without)))
+    if counted:
+        what = ("Saint-Venant shear, warping shear and warping normal stress"
+                if len(without) < len(counted) else "Saint-Venant shear and warping normal stress")
+        notes.append(f"stress check: the peaks of {what} are combined at each place along the "
+                     "member as if they acted at one point of the section "
+                     f"({counted[0].combination}), which is on the safe side")
     return MemberResult(model=model, solution=sol, segments=tuple(seg_peaks),
                         stations=tuple(stations), spans=tuple(spans), notes=tuple(notes))

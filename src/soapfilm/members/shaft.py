@@ -117,6 +117,10 @@ class Section:
         section (it does not warp), None where the section's result has none.
     max_warping : float or None
         Largest |omega_n| over the section (m^2), for sigma_w = B omega_n / Gamma.
+    max_warping_shear : float or None
+        Largest warping shear stress per unit warping torque (1/m^3), for
+        tau_w = |T_w| * max_warping_shear; 0 for a round section, None where
+        the section's result has none.
     size : float or None
         Largest distance across the section (m): the scale against which a
         member's warping decay length 1/lambda is judged (members/member.py).
@@ -137,6 +141,7 @@ class Section:
     warping_constant: float | None = None
     max_warping: float | None = None
     size: float | None = None
+    max_warping_shear: float | None = None
 
     @property
     def torsional_section_modulus(self) -> float:
@@ -237,6 +242,7 @@ def round_section(diameter: float, bore: float = 0.0, name: str = "") -> Section
         warping_constant=0.0,  # omega = 0 on a circle and a concentric tube
         max_warping=0.0,
         size=diameter,
+        max_warping_shear=0.0,
     )
 
 
@@ -304,6 +310,8 @@ def section_from_result(result, nominal_diameter: float | None = None, name: str
         warping_constant=None if warping is None else warping.warping_constant * s**6,
         max_warping=None if warping is None else warping.max_warping * s**2,
         size=result.profile.diameter * s,
+        max_warping_shear=None if warping is None or warping.max_warping_shear is None
+        or warping.does_not_warp else warping.max_warping_shear / s**3,
     )
 
 

@@ -50,13 +50,15 @@ def member_check_view(res, sys: UnitSystem, member_file: str = "") -> ShaftView:
                f"governed by the twist from {res.twist_governing.start} to "
                f"{res.twist_governing.end}")
     seg_head = ("segment", "section", "lambda L", "largest twist", "largest bimoment",
-                "Saint-Venant shear", "warping normal stress", "combined", "allowable",
-                "utilisation")
+                "Saint-Venant shear", "warping shear", "warping normal stress", "combined",
+                "allowable", "utilisation")
     seg_rows = tuple((p.segment.name, p.segment.section.name,
                       "Saint-Venant" if p.lam is None else f"{p.lambda_length:.3g}",
                       f(p.max_twist, "angle"),
                       "-" if p.lam is None else f(p.max_bimoment, "bimoment"),
                       f(p.max_shear_stress, "stress"),
+                      "-" if p.max_warping_shear_stress is None
+                      else f(p.max_warping_shear_stress, "stress"),
                       "-" if p.max_warping_stress is None else f(p.max_warping_stress, "stress"),
                       f(p.equivalent_shear_stress, "stress"),
                       f(p.segment.allowable.value, "stress"), _util(p.utilisation))
