@@ -19,6 +19,7 @@ flow over a few thicknesses (a local effect the thin-wall formula does not have)
 from __future__ import annotations
 
 import dataclasses
+import json
 import math
 
 import numpy as np
@@ -251,3 +252,24 @@ def test_cantilever_root_warping_shear_is_the_end_torque_times_the_property():
     assert p.equivalent_shear_stress >= root * (1 - 1e-12)
     assert "(tau + tau_w)" in p.combination
     assert not any("not computed" in n for n in res.notes)
+
+
+def test_member_file_root_warping_shear_through_the_command(tmp_path):
+    """The example jib (shapes/hoist-jib-member.toml: a finite-element channel welded at the
+    root, 100 N·m at the tip) through `soapfilm member --json`: at the welded root phi' = 0, so
+    the whole 100 N·m is warping torque there (Timoshenko & Gere, 2nd ed., ch. 5, the built-in
+    cantilever), and the segment's warping shear is 100 N·m times the section's own warping
+    shear per unit warping torque (both from the JSON), at x = 0."""
+    from pathlib import Path
+
+    from soapfilm.cli import main
+
+    here = Path(__file__).resolve().parents[1] / "shapes" / "hoist-jib-member.toml"
+    out = tmp_path / "jib.json"
+    assert main(["member", str(here), "--json", str(out), "--quiet"]) == 0
+    seg = json.loads(out.read_text())["segments"][0]
+    per_tw = seg["section"]["max_warping_shear_per_warping_torque_per_m3"]
+    assert per_tw > 0
+    assert seg["max_warping_torque_Nm"] == pytest.approx(100.0, rel=1e-9)
+    assert seg["max_warping_shear_stress_Pa"] == pytest.approx(100.0 * per_tw, rel=1e-9)
+    assert seg["max_warping_shear_stress_x_m"] == 0.0
