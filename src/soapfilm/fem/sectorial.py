@@ -38,6 +38,14 @@ Along the mid-line of an open thin wall the Saint-Venant shear vanishes, so
 is harmonic, so its largest magnitude is on the boundary; it is read at the
 nodes.
 
+Warping shear: where ``sigma_w`` changes along the bar (``B' = T_w``, the
+warping torque), the axial equilibrium of a slice needs the shear
+``tau_s = T_w grad(psi) / Gamma`` with ``-Laplace psi = omega_n`` and
+``d psi / dn = 0`` on every loop (:func:`warping_shear_function`); in a thin
+open wall it is the thin-wall ``T_w S_omega / (Gamma t)`` [2]_, its moment
+about the shear centre is exactly ``T_w`` and it has no resultant
+(DEVELOPERS.md, "Warping shear", derives both).
+
 References
 ----------
 .. [1] W. D. Pilkey, Analysis and Design of Elastic Beams: Computational
