@@ -192,6 +192,8 @@ def _direct(a: sp.csr_matrix, b: np.ndarray, ordering: str = "MMD_AT_PLUS_A") ->
     of A + A^T).
     """
     b = np.asarray(b, dtype=np.float64)
+    if a.shape[0] == 0:  # no unknowns (every node held: a P1 mesh one element thick)
+        return np.zeros(0)  # (qdldl refuses an empty matrix)
     if a.shape[0] <= LDL_LIMIT:
         try:
             import qdldl
