@@ -67,7 +67,7 @@ def channel_flange_peak(b: float, h: float, tf: float, tw: float) -> tuple[float
 @pytest.fixture(scope="module")
 def i_results():
     """I 200 x 100, walls of 8, 4 and 2 (no fillets), adaptive quadratic at tol 1e-3."""
-    return {t: analyse(i_section(200.0, 100.0, t, t), tol=1e-3) for t in THICKNESSES}
+    return {t: analyse(i_section(200.0, 100.0, t, t), tol=1e-3, warping_shear=True) for t in THICKNESSES}
 
 
 def test_i_section_warping_shear_tends_to_thin_wall(i_results):
@@ -120,7 +120,7 @@ def test_channel_warping_shear_tends_to_thin_wall():
     S_omega is flat there)."""
     diffs = []
     for t in THICKNESSES:
-        w = analyse(channel(200.0, 80.0, t, t), tol=1e-3).warping
+        w = analyse(channel(200.0, 80.0, t, t), tol=1e-3, warping_shear=True).warping
         b, h = 80.0 - t / 2, 200.0 - t
         peak, e = channel_flange_peak(b, h, t, t)
         d = w.max_warping_shear * w.warping_constant / peak - 1.0
@@ -273,3 +273,15 @@ def test_member_file_root_warping_shear_through_the_command(tmp_path):
     assert seg["max_warping_torque_Nm"] == pytest.approx(100.0, rel=1e-9)
     assert seg["max_warping_shear_stress_Pa"] == pytest.approx(100.0 * per_tw, rel=1e-9)
     assert seg["max_warping_shear_stress_x_m"] == 0.0
+
+
+def test_warping_shear_is_solved_only_when_asked():
+    """The warping-shear solve is one more solve on the final mesh that J and the peak do not
+    need: ``analyse`` makes it with ``warping_shear=True`` (the command line's ``solve`` and
+    ``member`` do), not by default. The same value either way: Gamma and the rest unchanged."""
+    sec = channel(120.0, 55.0, 7.0, 9.0)
+    plain = analyse(sec, tol=1e-2)
+    asked = analyse(sec, tol=1e-2, warping_shear=True)
+    assert plain.warping.max_warping_shear is None
+    assert asked.warping.max_warping_shear > 0
+    assert plain.warping.warping_constant == asked.warping.warping_constant

@@ -104,6 +104,7 @@ def refine_until(
     corner_tol_deg: float = DEFAULT_CORNER_TOL_DEG,
     progress: Callable[[dict], None] | None = None,
     memory=None,
+    warping_shear: bool = False,
 ) -> TorsionResult:
     """Refine adaptively until J and the peak shear meet the tolerances.
 
@@ -129,6 +130,9 @@ def refine_until(
         4 GB): the starting mesh is refused above it, and refinement stops,
         with a warning, at the elements it affords
         (:func:`soapfilm.resources.elements_within`).
+    warping_shear : bool
+        Also compute the warping shear on the final mesh
+        (:func:`soapfilm.solve.result_from_mesh`).
 
     Returns
     -------
@@ -223,6 +227,7 @@ def refine_until(
         refinement=tuple(history),
         max_shear_error=history[-1]["max_shear_error"],
         converged=converged,
+        warping_shear=warping_shear,
     )
 
 

@@ -194,7 +194,7 @@ def solve_input(path, opts: SectionOptions | None = None,
 
         check_elements(mesh.nelements, opts.memory, where=str(path),
                        fix="solve a coarser mesh, or the section itself")
-        return result_from_mesh(profile, mesh, order=opts.order)
+        return result_from_mesh(profile, mesh, order=opts.order, warping_shear=True)
     profile, settings = read_input(path, opts)
     kw = analyse_options(profile, settings, opts)
     if progress is not None and "tol" in kw:
@@ -206,5 +206,5 @@ def solve_input(path, opts: SectionOptions | None = None,
         # a refusal of the file's own mesh size names the key to change
         hints["mesh_size"] = f"size = {{}} in [mesh] of {Path(path).name}"
     with options_named(hints):
-        return analyse(profile, **kw)
+        return analyse(profile, warping_shear=True, **kw)
 

@@ -555,8 +555,14 @@ def result_from_mesh(
     refinement: tuple[dict, ...] = (),
     max_shear_error: float | None = None,
     converged: bool | None = None,
+    warping_shear: bool = False,
 ) -> TorsionResult:
-    """Solve both problems on a given mesh (unless ``fields`` are given) and assemble the result."""
+    """Solve both problems on a given mesh (unless ``fields`` are given) and assemble the result.
+
+    ``warping_shear``: also solve for the warping shear per unit warping torque
+    (:func:`soapfilm.fem.sectorial.warping_properties`, one more solve on the final
+    mesh; what ``solve`` and ``member`` report, not needed for J and the peak).
+    """
     corners = reentrant_corners(profile, corner_tol_deg)
     zone = corner_zone_radius(profile)
     if fields is None:
@@ -600,7 +606,8 @@ def result_from_mesh(
         max_shear_per_torque_warping=peak.value_warping / j,
         converged=converged,
         warping=warping_properties(mesh, fields, moments=moments, history=refinement,
-                                   diameter=profile.diameter, shear=True, corners=corners,
+                                   diameter=profile.diameter, shear=warping_shear,
+                                   corners=corners,
                                    zone=zone),
     )
 
@@ -614,6 +621,7 @@ def analyse(
     tol: float | None = None,
     order: int = DEFAULT_ORDER,
     memory=None,
+    warping_shear: bool = False,
     **adapt_options,
 ) -> TorsionResult:
     """Mesh a profile and compute its torsion properties.
@@ -640,6 +648,11 @@ def analyse(
         more is refused before it is made, with an :class:`InputError` that
         gives the estimate; the adaptive loop stops refining within it
         (:mod:`soapfilm.resources`).
+    warping_shear : bool
+        Also compute the warping shear per unit warping torque
+        (``result.warping.max_warping_shear``): one more linear solve on the
+        final mesh, so off by default (the command line's ``solve`` and
+        ``member`` ask for it).
 
     A section lying farther from the origin than :data:`FAR_RATIO` times its
     size is solved moved to the origin (far out, coordinates keep too few
@@ -658,15 +671,17 @@ def analyse(
     shift = far_shift(profile)
     if shift is not None:
         return _solved_at_origin(profile, shift, mesh_size=mesh_size, method=method, tol=tol,
-                                 order=order, memory=memory, **adapt_options)
+                                 order=order, memory=memory, warping_shear=warping_shear,
+                                 **adapt_options)
     if tol is not None:
         from .adapt import refine_until
 
         return refine_until(profile, tol=tol, mesh_size=mesh_size, order=order, method=method,
-                            memory=memory, **adapt_options)
+                            memory=memory, warping_shear=warping_shear, **adapt_options)
     mesh = mesh_profile(profile, mesh_size, memory=memory)
     log.info("mesh: %d nodes, %d triangles", mesh.nnodes, mesh.nelements)
-    return result_from_mesh(profile, mesh, method=method, order=order)
+    return result_from_mesh(profile, mesh, method=method, order=order,
+                            warping_shear=warping_shear)
 
 
 #: A section whose centre lies farther from the origin than this many times its size

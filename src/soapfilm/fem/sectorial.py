@@ -176,10 +176,11 @@ class _Mass:
         if len(self.idx):
             mf[:, :, self.idx] = np.einsum("ije,bje->bie", self.curved, fe[:, :, self.idx])
         n = fields.shape[0]
+        prod = np.einsum("aie,bie->abe", fe, mf)  # element shares of every pair at once
         out = np.empty((n, n))
         for a in range(n):
             for b in range(a, n):
-                out[a, b] = out[b, a] = math.fsum(np.einsum("ie,ie->e", fe[a], mf[b]))
+                out[a, b] = out[b, a] = math.fsum(prod[a, b].tolist())
         return out
 
 

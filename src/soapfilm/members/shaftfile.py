@@ -233,7 +233,8 @@ class SectionSource:
             profile = Profile.from_loops(
                 loops, units=units, name=name,
                 labels=[f"{where} outline"] + [f"{where} hole {k}" for k in range(1, len(loops))])
-            self.cache[key] = analyse(profile, **analyse_options(profile, {}, opts))
+            self.cache[key] = analyse(profile, warping_shear=True,
+                                      **analyse_options(profile, {}, opts))
         result = self.cache[key]
         section = section_from_result(result, nominal_diameter, name=name,
                                       nominal_source=f"{where} key 'nominal_diameter'")
