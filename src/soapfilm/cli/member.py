@@ -34,11 +34,15 @@ def add_args(p: argparse.ArgumentParser) -> None:
     p.add_argument("--plot", metavar="OUT.png",
                    help="draw twist, torque split (Saint-Venant and warping) and bimoment along "
                         "the member (PNG, SVG or PDF by suffix)")
+    p.add_argument("--plot-sectorial", metavar="OUT",
+                   help="draw the normalised warping omega_n over each section whose warping "
+                        "the member counts, with its shear centre and largest |omega_n| (PNG, "
+                        "SVG or PDF by suffix)")
     p.add_argument("--quiet", action="store_true", help="no terminal output")
     add_input_args(p, what="the section files")
     p.add_argument("--report", metavar="OUT.html",
-                   help="self-contained HTML report: the check, every segment, the stations "
-                        "and the member figure")
+                   help="self-contained HTML report: the check, every segment, the stations, "
+                        "the member figure and omega_n over each section whose warping counts")
 
 
 def _span_json(sp) -> dict:
@@ -192,19 +196,22 @@ def print_member(res: MemberResult, sys: UnitSystem, con, view=None) -> None:
 
 
 def run(args) -> int:
-    for target, opt in ((args.json, "--json"), (args.plot, "--plot")):
+    for target, opt in ((args.json, "--json"), (args.plot, "--plot"),
+                        (args.plot_sectorial, "--plot-sectorial")):
         if target and target != "-":
             check_writable(target, opt)
-    if args.plot:
-        from ..plots import figure_format
+    for target in (args.plot, args.plot_sectorial):
+        if target:
+            from ..plots import figure_format
 
-        figure_format(args.plot)
+            figure_format(target)
     if args.report:
         if not args.report.lower().endswith((".html", ".htm")):
             raise InputError("the report is an HTML file", where=f"--report {args.report}",
                              fix="end the file name in .html")
         check_writable(args.report, "--report")
     check_outputs_apart([args.file], [("--json", args.json), ("--plot", args.plot),
+                                      ("--plot-sectorial", args.plot_sectorial),
                                       ("--report", args.report)])
     sys_ = system_of(args)
     from ..members.shaftfile import CheckOptions, SectionSource, twist_basis_of
@@ -218,21 +225,34 @@ def run(args) -> int:
     from ..members.member import analyse_member
     from ..members.memberfile import read_member
 
-    model = read_member(args.file, options, SectionSource(options=input_options(args)), e_mod)
+    source = SectionSource(options=input_options(args))
+    model = read_member(args.file, options, source, e_mod)
     try:
         res = analyse_member(model)
     except InputError as exc:
         if exc.where is None:
             raise InputError(exc.what, where=args.file, fix=exc.fix) from None
         raise InputError(exc.what, where=f"{args.file}: {exc.where}", fix=exc.fix) from None
-    return finish(args, res, sys_)
+    return finish(args, res, sys_, source.results)
 
 
-def finish(args, res: MemberResult, sys_) -> int:
-    """Print, write the JSON, the plot and the report; the exit status (3: a check failed)."""
+def finish(args, res: MemberResult, sys_, section_results: dict | None = None) -> int:
+    """Print, write the JSON, the plots and the report; the exit status (3: a check failed).
+
+    ``section_results`` maps each section to its finite-element result
+    (:attr:`~soapfilm.members.shaftfile.SectionSource.results`), for the
+    pictures of omega_n.
+    """
     from ..errors import EXIT_CHECK_FAILED
+    from ..members.memberplot import warped_sections
     from ..report.member import member_check_view
 
+    warped = warped_sections(res, section_results or {})
+    if args.plot_sectorial and not warped:
+        raise InputError("no segment counts warping, so there is no omega_n to draw",
+                         where=f"--plot-sectorial {args.plot_sectorial}",
+                         fix="drop the option: every segment is in Saint-Venant torsion "
+                             "(see the notes)")
     view = member_check_view(res, sys_, member_file=str(args.file))
     files = run_outputs()  # every file written before anything is printed
     if args.json and args.json != "-":
@@ -246,16 +266,29 @@ def finish(args, res: MemberResult, sys_) -> int:
             files.stage(args.plot, member_figure_bytes(res, sys_, figure_format(args.plot)),
                         "--plot")
         if args.report:
+            from ..members.memberplot import sectorial_bytes
             from ..report.member import render_member_report
 
+            sectorials = [(names, sectorial_bytes([(r, names)], "png", dpi=110))
+                          for r, names in warped]
             files.stage(args.report, render_member_report(
-                view, member_figure_bytes(res, sys_, "png", dpi=110)), "--report")
+                view, member_figure_bytes(res, sys_, "png", dpi=110), sectorials),
+                "--report")
+    if args.plot_sectorial:
+        from ..members.memberplot import sectorial_bytes
+        from ..plots import figure_format
+
+        files.stage(args.plot_sectorial,
+                    sectorial_bytes(warped, figure_format(args.plot_sectorial)),
+                    "--plot-sectorial")
     files.commit()
     con = console(args.quiet or args.json == "-")
     if con:
         print_member(res, sys_, con, view=view)
         if args.plot:
             con.print(f"plot written to {args.plot}")
+        if args.plot_sectorial:
+            con.print(f"omega_n plot written to {args.plot_sectorial}")
         if args.report:
             con.print(f"report written to {args.report}")
     if args.json == "-":

@@ -7,7 +7,8 @@ import numpy as np
 from ..units import UnitSystem
 from .member import MemberResult
 
-__all__ = ["plot_member", "member_figure_bytes"]
+__all__ = ["plot_member", "member_figure_bytes", "warped_sections", "sectorial_figure",
+           "sectorial_bytes"]
 
 
 def _support_mark(st) -> str:
@@ -108,3 +109,62 @@ def member_figure_bytes(result: MemberResult, system: UnitSystem, fmt: str = "pn
         return figure_bytes(fig, fmt, dpi) if dpi else figure_bytes(fig, fmt)
     finally:
         plt.close(fig)
+
+
+def warped_sections(result: MemberResult, results: dict) -> list[tuple[object, tuple[str, ...]]]:
+    """The distinct sections whose warping the member counts, with their segments' names.
+
+    ``results`` maps a :class:`~soapfilm.members.shaft.Section` to the
+    finite-element result it came from
+    (:attr:`soapfilm.members.shaftfile.SectionSource.results`); a section
+    without one (a closed form) has no field to draw and is left out.
+    Returns (TorsionResult, segment names) pairs in the member's order.
+    """
+    out: dict = {}
+    for p in result.segments:
+        sec = p.segment.section
+        if p.warping_counted and sec in results:
+            out.setdefault(sec, []).append(p.segment.name)
+    return [(results[sec], tuple(names)) for sec, names in out.items()]
+
+
+def _segments_words(names) -> str:
+    quoted = ", ".join(repr(n) for n in names)
+    return f"segment{'s' if len(names) > 1 else ''} {quoted}"
+
+
+def sectorial_figure(pairs):
+    """One panel of the normalised warping omega_n per section (stacked), for a member.
+
+    Each panel is :func:`soapfilm.plots.plot_sectorial` of the section (its
+    own length unit, the shear centre and the largest ``|omega_n|`` marked),
+    titled with the segments that use it.  ``pairs`` as returned by
+    :func:`warped_sections`, not empty.
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+    """
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    from matplotlib.figure import Figure
+
+    from ..plots import _DPI, _fit_size, plot_sectorial
+
+    sizes = [_fit_size(r.profile, colorbar=True, legend=3) for r, _ in pairs]
+    fig = Figure(figsize=(max(w for w, _ in sizes), sum(h for _, h in sizes)), dpi=_DPI,
+                 layout="constrained")
+    FigureCanvasAgg(fig)
+    subs = [fig] if len(pairs) == 1 else fig.subfigures(
+        len(pairs), 1, height_ratios=[h for _, h in sizes])
+    for sub, (res, names) in zip(subs, pairs, strict=True):
+        ax = plot_sectorial(res, ax=sub.add_subplot())
+        ax.set_title(f"{_segments_words(names)}\n{ax.get_title()}", fontsize=10)
+    return fig
+
+
+def sectorial_bytes(pairs, fmt: str = "png", dpi: int | None = None) -> bytes:
+    """The figure of :func:`sectorial_figure` rendered to bytes."""
+    from ..plots import figure_bytes
+
+    fig = sectorial_figure(pairs)
+    return figure_bytes(fig, fmt, dpi) if dpi else figure_bytes(fig, fmt)

@@ -83,8 +83,12 @@ def member_check_view(res, sys: UnitSystem, member_file: str = "") -> ShaftView:
 
 
 def render_member_report(view: ShaftView, figure_png: bytes | None = None,
-                         generated: str | None = None) -> str:
-    """The HTML report of a member's check (the same page as a shaft's)."""
+                         sectorials=(), generated: str | None = None) -> str:
+    """The HTML report of a member's check (the same page as a shaft's).
+
+    ``sectorials`` are (segment names, PNG) pairs: omega_n over each section
+    whose warping the member counts.
+    """
     from . import _cells_table, _page, _warnings_html, check_html
 
     parts = [check_html(view)]
@@ -96,6 +100,19 @@ def render_member_report(view: ShaftView, figure_png: bytes | None = None,
             f'src="data:image/png;base64,{data}"><figcaption>Twist, Saint-Venant and warping '
             "torque, and bimoment along the member; stations marked ([T] twist held, [W] "
             "warping held).</figcaption></figure>")
+    if sectorials:
+        figs = []
+        for names, png in sectorials:
+            data = base64.b64encode(png).decode("ascii")
+            used = ", ".join(html.escape(repr(n)) for n in names)
+            figs.append(
+                f'<figure><img alt="normalised warping omega_n over the section of {used}" '
+                f'src="data:image/png;base64,{data}"><figcaption>Normalised warping '
+                f"&omega;<sub>n</sub> over the section of segment{'s' if len(names) > 1 else ''}"
+                f" {used}: the warping normal stress is B &omega;<sub>n</sub> / &Gamma;, largest "
+                "where |&omega;<sub>n</sub>| is (square); the shear centre is the ringed "
+                "cross.</figcaption></figure>")
+        parts.append("<h2>Warping over the sections</h2>\n" + "\n".join(figs))
     for title, head, rows, over in view.tables:
         util = head.index("utilisation") if "utilisation" in head else None
         nums = [i for i, h in enumerate(head) if h not in ("segment", "section", "station",
