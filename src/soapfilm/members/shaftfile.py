@@ -147,6 +147,9 @@ class SectionSource:
 
     options: object = None
     cache: dict = field(default_factory=dict)
+    #: the finite-element result behind each section built from a file or an outline
+    #: (Section -> TorsionResult), for pictures of its fields (``member --plot-sectorial``)
+    results: dict = field(default_factory=dict)
 
     def _options(self, units, mesh_size, layers=None, join_tolerance=None):
         import dataclasses
@@ -212,6 +215,7 @@ class SectionSource:
         given = nominal_source.startswith(("given with --", where))
         check_nominal_diameter(section, section.nominal_diameter,
                                nominal_source.removeprefix("given with ") if given else where)
+        self.results[section] = result
         return section, result
 
     def from_outline(self, outline, holes, units: str, where: str,
@@ -239,12 +243,14 @@ class SectionSource:
         section = section_from_result(result, nominal_diameter, name=name,
                                       nominal_source=f"{where} key 'nominal_diameter'")
         check_nominal_diameter(section, nominal_diameter, f"{where} key 'nominal_diameter'")
+        self.results[section] = result
         return section, result
 
     def from_spec(self, spec, base: Path, default_units: str | None, where: str,
-                  name: str) -> Section:
+                  name: str, noun: str = "shaft") -> Section:
         """A segment's ``section`` value: a path, or a table (round / file / outline).
 
+        ``noun`` names the file in messages (``"shaft"`` or ``"member"``).
         ``default_units`` is the shaft file's ``section_units`` (None when
         not given: section files then use their own unit, else mm).
         """
@@ -310,7 +316,7 @@ class SectionSource:
                      "mesh_size": f"--mesh-size {{0}}, or mesh_size = {{0}} in {where}"}
             # units None: the reader decides (its own header, else mm)
             return self.from_file(path, units, where, nominal, mesh_size,
-                                  missing_fix="paths are relative to the shaft file",
+                                  missing_fix=f"paths are relative to the {noun} file",
                                   layers=layers, join_tolerance=jt, hints=hints,
                                   nominal_source=f"{where} key 'nominal_diameter'")[0]
         for k in ("layer", "join_tolerance"):
@@ -576,9 +582,12 @@ def load_toml(path: Path, what: str = "shaft file") -> dict:
 
 
 def shaft_from_dict(data: dict, base: Path, where: str, options: CheckOptions | None = None,
-                    sections: SectionSource | None = None, require_loads: bool = True
-                    ) -> ShaftModel:
+                    sections: SectionSource | None = None, require_loads: bool = True,
+                    noun: str = "shaft") -> ShaftModel:
     """Build a :class:`ShaftModel` from the parsed TOML of a shaft file.
+
+    ``noun`` names the file and the part in messages and sources: ``"shaft"``,
+    or ``"member"`` for a member file read through here.
 
     ``require_loads=False``: a file with no ``[[load]]`` is taken (a member
     file, whose loads may all be distributed; :mod:`soapfilm.members.memberfile`).
@@ -586,7 +595,8 @@ def shaft_from_dict(data: dict, base: Path, where: str, options: CheckOptions | 
     opts = options or CheckOptions()
     sections = sections or SectionSource()
     if "segment" not in data and ("section" in data or "part" in data):
-        raise InputError("is a section shape file (it has [section] or [[part]]), not a shaft file",
+        raise InputError("is a section shape file (it has [section] or [[part]]), not a "
+                         f"{noun} file",
                          where=where, fix=f"run 'soapfilm solve {where}' or 'soapfilm check'")
     _check_keys(data, _TOP_KEYS, where)
     section_units = data.get("section_units")
@@ -600,7 +610,7 @@ def shaft_from_dict(data: dict, base: Path, where: str, options: CheckOptions | 
     elif "twist_limit" in data:
         twist_limit = parse_quantity(data["twist_limit"], "twist_rate",
                                      f"{where} key 'twist_limit'", sign="positive")
-        twist_note = "given in the shaft file"
+        twist_note = f"given in the {noun} file"
         twist_basis = twist_basis_of(data["twist_limit"])
     else:
         twist_limit, twist_note = DEFAULT_TWIST_LIMIT, TWIST_LIMIT_NOTE
@@ -645,10 +655,10 @@ def shaft_from_dict(data: dict, base: Path, where: str, options: CheckOptions | 
         g = _q(m, "shear_modulus", "modulus", mw, required=base_mat is None)
         sy = _q(m, "yield_strength", "stress", mw, required=False)
         if base_mat is None:
-            mat = Material(key, m.get("label", key), g, sy, f"shaft file [materials.{key}]",
-                           f"shaft file [materials.{key}]" if sy is not None else "not given")
+            mat = Material(key, m.get("label", key), g, sy, f"{noun} file [materials.{key}]",
+                           f"{noun} file [materials.{key}]" if sy is not None else "not given")
         else:
-            mat = base_mat.overridden(g, sy, where=f"shaft file [materials.{key}]")
+            mat = base_mat.overridden(g, sy, where=f"{noun} file [materials.{key}]")
             mat = Material(key, m.get("label", key), mat.shear_modulus, mat.yield_strength,
                            mat.shear_modulus_note, mat.yield_strength_note)
         user_mats[key] = mat
@@ -673,7 +683,7 @@ def shaft_from_dict(data: dict, base: Path, where: str, options: CheckOptions | 
     segs = data.get("segment", [])
     if not isinstance(segs, list) or not segs:
         raise InputError("no segments", where=where,
-                         fix="list the shaft's lengths in order as [[segment]] tables")
+                         fix=f"list the {noun}'s lengths in order as [[segment]] tables")
     segments = []
     for i, s in enumerate(segs):
         sw = f"{where}: {_label('segment', i, s)}"
@@ -689,7 +699,7 @@ def shaft_from_dict(data: dict, base: Path, where: str, options: CheckOptions | 
                              fix='e.g. section = { diameter = "40 mm" } or section = "keyed.txt"')
         name = s.get("name", f"segment {i + 1}")
         section = sections.from_spec(s["section"], base, section_units,
-                                     f"{sw} key 'section'", name)
+                                     f"{sw} key 'section'", name, noun)
         mat_name = s.get("material", default_mat_name)
         g_seg = _q(s, "shear_modulus", "modulus", sw, required=False)
         if mat_name is None:
@@ -724,7 +734,7 @@ def shaft_from_dict(data: dict, base: Path, where: str, options: CheckOptions | 
                                (opts.criterion, "--criterion")):
                 if value is not None:
                     raise InputError(
-                        f"{opt} cannot be combined with the allowable_shear of the shaft file",
+                        f"{opt} cannot be combined with the allowable_shear of the {noun} file",
                         where=f"{sw} key 'allowable_shear'" if allow_seg is not None
                         else f"{cw} key 'allowable_shear'",
                         fix=f"the file's allowable shear stress is used as given; drop {opt}, "
@@ -747,7 +757,7 @@ def shaft_from_dict(data: dict, base: Path, where: str, options: CheckOptions | 
         x = _q(table, "at", "length", w, sign="any")  # outside the shaft: said below
         if x < -tol or x > total + tol:
             raise InputError(
-                f"position {x * 1e3:g} mm is outside the shaft (0 to {total * 1e3:g} mm)",
+                f"position {x * 1e3:g} mm is outside the {noun} (0 to {total * 1e3:g} mm)",
                 where=f"{w} key 'at'", fix="positions are measured from the left end, x = 0")
         for other_x, other in stations:
             if abs(other_x - x) <= tol:
@@ -775,7 +785,7 @@ def shaft_from_dict(data: dict, base: Path, where: str, options: CheckOptions | 
         stations.append((x, _label("support", i, sp)))
     if not loads and require_loads:
         raise InputError("no loads", where=where,
-                         fix="add [[load]] tables with the torques applied along the shaft")
+                         fix=f"add [[load]] tables with the torques applied along the {noun}")
     return ShaftModel(
         name=str(data.get("name", Path(where).stem)),
         segments=tuple(segments),
