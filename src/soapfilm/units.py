@@ -111,6 +111,8 @@ def _describe(dim, unitless: bool = True) -> str:
             return _NAMES[kind].split(" (")[0]
     if not dim:
         return "a plain number" if unitless else "an angle (or another pure number)"
+    if dim == registry().get_dimensionality("newton"):  # "1 kN" for a torque: the lever is missing
+        return "a force (a torque is a force times its lever arm)"
     return f"a quantity of dimension {dim}"
 
 

@@ -354,13 +354,18 @@ def analyse_member(model: MemberModel) -> MemberResult:
         lv, rv = sol.end_values[j]
         side = rv or lv
         bims = [v["bimoment"] for v in (lv, rv) if v is not None]
-        warps = any(p.warps for p in pieces[max(j - 1, 0):j + 1])
+        warping_sides = [v for v, k in ((lv, j - 1), (rv, j)) if v is not None and pieces[k].warps]
+        warps = bool(warping_sides)
+        # warping free with one warping side (an end, a joint to a section that does not
+        # warp): B = 0 is that side's condition, as a held twist's zero is (not the
+        # round-off of the solve)
+        b_zero = not warping_held[j] and len(warping_sides) == 1
         stations.append(StationResult(
             name=" + ".join(names[j]), x=float(st_x[j]), torque=float(torque[j]),
             twist_held=bool(twist_held[j]), warping_held=bool(warping_held[j]),
             twist=0.0 if twist_held[j] else side["phi"],  # held: zero by its condition
             reaction_torque=sol.reactions[j] if twist_held[j] else None,
-            bimoment=max(bims, key=abs) if warps else None))
+            bimoment=None if not warps else 0.0 if b_zero else max(bims, key=abs)))
 
     # twist: between neighbouring stations that carry a load or a support, and the ends
     marks = sorted({0, st_x.size - 1, *names})

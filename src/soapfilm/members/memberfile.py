@@ -97,7 +97,8 @@ def member_from_dict(data: dict, base: Path, where: str, options: CheckOptions |
             seg_extra.append(extra)
     support_tables = _table_list(data, "support", where)
     data.pop("support", None)
-    shaft = shaft_from_dict(data, base, where, options, sections, require_loads=False)
+    shaft = shaft_from_dict(data, base, where, options, sections, require_loads=False,
+                            noun="member")
 
     user_mats = data.get("materials", {}) if isinstance(data.get("materials"), dict) else {}
     segments = []
@@ -157,5 +158,5 @@ def member_from_dict(data: dict, base: Path, where: str, options: CheckOptions |
                          fix="add [[load]] tables or a segment's distributed_torque")
     return MemberModel(name=shaft.name, segments=tuple(segments), loads=shaft.loads,
                        supports=tuple(supports), twist_limit=shaft.twist_limit,
-                       twist_limit_note=shaft.twist_limit_note.replace("shaft file", "member file"),
+                       twist_limit_note=shaft.twist_limit_note,
                        twist_basis=shaft.twist_basis)
