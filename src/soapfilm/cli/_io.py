@@ -506,3 +506,25 @@ def progress(description: str, total: float | None = None, quiet: bool = False, 
     if quiet or not (isatty and isatty()):
         return _Silent()
     return _RichProgress(description, total)
+
+
+def finish_check(args, files: Outputs, passed: bool, document, show, written=()) -> int:
+    """The common end of ``check``, ``shaft`` and ``member``: every staged file in place,
+    then the table, the files' lines and ``--json -``; the exit status (3: failed).
+
+    ``document``: the JSON object (only built for ``--json -``, called then);
+    ``show(con)``: prints the tables; ``written``: ``(path or None, what)`` pairs,
+    each named as written after the tables.
+    """
+    from ..errors import EXIT_CHECK_FAILED
+
+    files.commit()
+    con = console(args.quiet or args.json == "-")
+    if con:
+        show(con)
+        for path, what in written:
+            if path:
+                con.print(f"{what} written to {path}")
+    if args.json == "-":
+        write_json("-", document())
+    return 0 if passed else EXIT_CHECK_FAILED

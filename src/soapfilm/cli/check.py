@@ -10,7 +10,12 @@ from ..errors import InputError
 from ..materials import Allowable, Material, criterion_key, material
 from ..units import UnitSystem, parse_number, parse_positive, parse_quantity, unit_system
 from ._inputs import add_input_args, input_options
-from ._io import check_outputs_apart, check_writable, console, run_outputs, write_json
+from ._io import (
+    check_outputs_apart,
+    check_writable,
+    finish_check,
+    run_outputs,
+)
 
 if TYPE_CHECKING:  # the mechanics are imported when a check runs, not for --help
     from ..members.shaft import Section, SectionCheck
@@ -283,7 +288,6 @@ def run(args) -> int:
 def finish(args, section, fe_result, torque, length, mat, allowable, twist_limit, twist_note,
            nominal, sys_) -> int:
     """Check, print, write the JSON and the report; the exit status (3: the check failed)."""
-    from ..errors import EXIT_CHECK_FAILED
     from ..members.shaft import DEFAULT_TWIST_BASIS, check_section
     from ..members.shaftfile import twist_basis_of
     from ..report.checks import section_check_view
@@ -308,11 +312,6 @@ def finish(args, section, fe_result, torque, length, mat, allowable, twist_limit
         files.stage(args.report, html, "--report")
     if args.json and args.json != "-":
         files.stage_json(args.json, out, "--json")
-    files.commit()
-    con = console(args.quiet or args.json == "-")
-    if con:
-        print_check(res, mat, sys_, twist_note, con, view=view)
-    if args.json == "-":
-        write_json("-", out)
-    return 0 if res.passed else EXIT_CHECK_FAILED
+    return finish_check(args, files, res.passed, lambda: out,
+                        lambda con: print_check(res, mat, sys_, twist_note, con, view=view))
 

@@ -9,7 +9,12 @@ from ..defaults import MEMBER_CAUTION as CAUTION
 from ..errors import InputError
 from ..units import UnitSystem, parse_positive
 from ._inputs import add_input_args, input_options
-from ._io import check_outputs_apart, check_writable, console, run_outputs, write_json
+from ._io import (
+    check_outputs_apart,
+    check_writable,
+    finish_check,
+    run_outputs,
+)
 from .check import add_allowable_args, allowable_json, parse_allowable_args, section_json, system_of
 
 if TYPE_CHECKING:  # the mechanics are imported when a member runs, not for --help
@@ -243,7 +248,6 @@ def finish(args, res: MemberResult, sys_, section_results: dict | None = None) -
     (:attr:`~soapfilm.members.shaftfile.SectionSource.results`), for the
     pictures of omega_n.
     """
-    from ..errors import EXIT_CHECK_FAILED
     from ..members.memberplot import warped_sections
     from ..report.member import member_check_view
 
@@ -281,16 +285,7 @@ def finish(args, res: MemberResult, sys_, section_results: dict | None = None) -
         files.stage(args.plot_sectorial,
                     sectorial_bytes(warped, figure_format(args.plot_sectorial)),
                     "--plot-sectorial")
-    files.commit()
-    con = console(args.quiet or args.json == "-")
-    if con:
-        print_member(res, sys_, con, view=view)
-        if args.plot:
-            con.print(f"plot written to {args.plot}")
-        if args.plot_sectorial:
-            con.print(f"omega_n plot written to {args.plot_sectorial}")
-        if args.report:
-            con.print(f"report written to {args.report}")
-    if args.json == "-":
-        write_json("-", member_json(res))
-    return 0 if res.passed else EXIT_CHECK_FAILED
+    return finish_check(args, files, res.passed, lambda: member_json(res),
+                        lambda con: print_member(res, sys_, con, view=view),
+                        [(args.plot, "plot"), (args.plot_sectorial, "omega_n plot"),
+                         (args.report, "report")])

@@ -9,7 +9,12 @@ from ..defaults import CAUTION
 from ..errors import InputError
 from ..units import UnitSystem, parse_positive
 from ._inputs import add_input_args, input_options
-from ._io import check_outputs_apart, check_writable, console, run_outputs, write_json
+from ._io import (
+    check_outputs_apart,
+    check_writable,
+    finish_check,
+    run_outputs,
+)
 from .check import (
     add_allowable_args,
     allowable_json,
@@ -223,7 +228,6 @@ def run(args) -> int:
 
 def finish(args, res: ShaftResult, sys_) -> int:
     """Print, write the JSON, the plot and the report; the exit status (3: a check failed)."""
-    from ..errors import EXIT_CHECK_FAILED
     from ..report.checks import shaft_check_view
 
     sources = {"twist_rule": "--twist-rule" if args.twist_rule else
@@ -249,14 +253,6 @@ def finish(args, res: ShaftResult, sys_) -> int:
 
             files.stage(args.report, render_shaft_report(
                 view, shaft_figure_bytes(res, sys_, "png", dpi=110)), "--report")
-    files.commit()
-    con = console(args.quiet or args.json == "-")
-    if con:
-        print_shaft(res, sys_, con, view=view)
-        if args.plot:
-            con.print(f"plot written to {args.plot}")
-        if args.report:
-            con.print(f"report written to {args.report}")
-    if args.json == "-":
-        write_json("-", shaft_json(res))
-    return 0 if res.passed else EXIT_CHECK_FAILED
+    return finish_check(args, files, res.passed, lambda: shaft_json(res),
+                        lambda con: print_shaft(res, sys_, con, view=view),
+                        [(args.plot, "plot"), (args.report, "report")])

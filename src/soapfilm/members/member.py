@@ -30,7 +30,7 @@ import numpy as np
 
 from ..errors import InputError
 from ..materials import Allowable, Material
-from .shaft import DEFAULT_TWIST_BASIS, Load, Section
+from .shaft import DEFAULT_TWIST_BASIS, Load, Section, Verdict
 from .warping import MemberSolution, Piece, Station, solve_member
 
 __all__ = ["MemberSegment", "MemberSupport", "MemberModel", "MemberResult", "SegmentPeaks",
@@ -162,7 +162,7 @@ class StationResult:
 
 
 @dataclass(frozen=True)
-class MemberResult:
+class MemberResult(Verdict):
     model: MemberModel
     solution: MemberSolution
     segments: tuple[SegmentPeaks, ...]
@@ -187,17 +187,6 @@ class MemberResult:
         g = self.twist_governing
         return 0.0 if g is None else g.utilisation
 
-    @property
-    def utilisation(self) -> float:
-        return max(self.utilisation_stress, self.utilisation_twist)
-
-    @property
-    def governs(self) -> str:
-        return "stress" if self.utilisation_stress >= self.utilisation_twist else "twist"
-
-    @property
-    def passed(self) -> bool:
-        return self.utilisation <= 1.0
 
 
 def criterion_factor(allowable: Allowable, warping_shear: bool = False) -> tuple[float, str]:

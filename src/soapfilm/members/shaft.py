@@ -83,6 +83,25 @@ TWIST_RULES = {
 
 
 # --------------------------------------------------------------------------- sections
+class Verdict:
+    """``utilisation``, ``governs`` and ``passed`` of a check from its
+    ``utilisation_stress`` and ``utilisation_twist`` (None: no twist check); mixed into
+    the checks of a section, a shaft segment, a shaft and a member."""
+
+    @property
+    def utilisation(self) -> float:
+        return max(self.utilisation_stress, self.utilisation_twist or 0.0)
+
+    @property
+    def governs(self) -> str:
+        """``"stress"`` or ``"twist"``: which check has the larger utilisation."""
+        return "twist" if (self.utilisation_twist or 0.0) > self.utilisation_stress else "stress"
+
+    @property
+    def passed(self) -> bool:
+        return self.utilisation <= 1.0
+
+
 @dataclass(frozen=True)
 class Section:
     """Torsion properties of a section, in SI units.
@@ -317,7 +336,7 @@ def section_from_result(result, nominal_diameter: float | None = None, name: str
 
 # --------------------------------------------------------------------------- one section
 @dataclass(frozen=True)
-class SectionCheck:
+class SectionCheck(Verdict):
     """Stress, twist and stiffness of a prismatic bar under a torque (SI).
 
     ``utilisation`` is the larger of the stress and the twist utilisation;
@@ -350,18 +369,6 @@ class SectionCheck:
         if self.twist_rule == "segments":
             return self.twist_limit * self.length
         return self.twist_limit * max(self.length, self.twist_basis)
-
-    @property
-    def utilisation(self) -> float:
-        return max(self.utilisation_stress, self.utilisation_twist)
-
-    @property
-    def governs(self) -> str:
-        return "stress" if self.utilisation_stress >= self.utilisation_twist else "twist"
-
-    @property
-    def passed(self) -> bool:
-        return self.utilisation <= 1.0
 
     @property
     def kts(self) -> float | None:
@@ -501,7 +508,7 @@ class ShaftModel:
 
 
 @dataclass(frozen=True)
-class SegmentResult:
+class SegmentResult(Verdict):
     """Results for one segment (SI).
 
     ``utilisation_twist`` is None unless the twist rule is ``"segments"``
@@ -526,19 +533,6 @@ class SegmentResult:
     def governing_torque(self) -> float:
         """The internal torque of largest magnitude in the segment (signed)."""
         return self.torque_max if abs(self.torque_max) >= abs(self.torque_min) else self.torque_min
-
-    @property
-    def utilisation(self) -> float:
-        return max(self.utilisation_stress, self.utilisation_twist or 0.0)
-
-    @property
-    def governs(self) -> str:
-        return ("twist" if (self.utilisation_twist or 0.0) > self.utilisation_stress
-                else "stress")
-
-    @property
-    def passed(self) -> bool:
-        return self.utilisation <= 1.0
 
     @property
     def kts(self) -> float | None:
@@ -588,7 +582,7 @@ class TwistStretch:
 
 
 @dataclass(frozen=True)
-class ShaftResult:
+class ShaftResult(Verdict):
     """Internal torques, twists and checks of a stepped shaft (SI).
 
     Attributes
@@ -651,18 +645,6 @@ class ShaftResult:
             return max(s.utilisation_twist or 0.0 for s in self.segments)
         return self.twist_governing.utilisation if self.twist_governing else 0.0
 
-    @property
-    def utilisation(self) -> float:
-        return max(self.utilisation_stress, self.utilisation_twist)
-
-    @property
-    def governs(self) -> str:
-        """``"stress"`` or ``"twist"``: which check has the larger utilisation."""
-        return "twist" if self.utilisation_twist > self.utilisation_stress else "stress"
-
-    @property
-    def passed(self) -> bool:
-        return self.utilisation <= 1.0
 
 
 def _merge_positions(positions: Sequence[float], tol: float) -> np.ndarray:
