@@ -96,14 +96,14 @@ def test_direct_path_against_superlu_and_spsolve(monkeypatch, bore):
 
     monkeypatch.setattr(linsolve, "_direct", spy)
     new = values()
-    # the warping-shear problem (fem.sectorial) is one more direct solve per result
+    # (result_from_mesh without warping_shear: the two fields' solves only)
     if bore:  # the LDL^T path ran, once per field
-        assert len(sizes) == 3 and 5_000 < max(sizes) <= linsolve.LDL_LIMIT
-    else:  # the pair ran, no separate factorisation of the fields
-        assert len(sizes) == 1
+        assert len(sizes) == 2 and 5_000 < max(sizes) <= linsolve.LDL_LIMIT
+    else:  # the pair ran, no separate factorisation
+        assert sizes == []
     monkeypatch.setattr(linsolve, "LDL_LIMIT", 0)
     superlu = values()
-    assert len(sizes) == (6 if bore else 4)  # SuperLU, separately
+    assert len(sizes) == (4 if bore else 2)  # SuperLU, separately
     monkeypatch.setattr(linsolve, "_direct", lambda a, b, ordering=None: spla.spsolve(a.tocsc(), b))
     general = values()
     np.testing.assert_allclose(new, general, rtol=1e-10, atol=0)
