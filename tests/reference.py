@@ -73,3 +73,30 @@ def triangle_points(a: float) -> np.ndarray:
 
 def rectangle_points(b: float, t: float) -> np.ndarray:
     return np.array([[0.0, 0.0], [b, 0.0], [b, t], [0.0, t]])
+
+
+def skfem_p2_basis(p6: np.ndarray, nodes, n: int):
+    """scikit-fem's isoparametric quadratic basis on a soapfilm P2 mesh (the outside
+    reference of the quadratic-element tests), and the map from our node numbers to its
+    dofs: ``values[order]`` are our nodal values in scikit-fem's dof order.
+
+    ``p6``: our P2 node coordinates (corners first, then the mid-edge nodes, as
+    ``P2Nodes``); ``nodes``: the ``P2Nodes`` (``t6``, ``edges``); ``n``: corner count.
+    The mid-edge nodes of curved edges lie on the curve, so scikit-fem's doflocs are moved
+    there and its element map is the same quadratic map as ours.
+    """
+    import dataclasses
+
+    from skfem import Basis, ElementTriP2, MeshTri1, MeshTri2
+
+    m2 = MeshTri2.from_mesh(MeshTri1(np.ascontiguousarray(p6[:, :n]),
+                                     np.ascontiguousarray(nodes.t6[:3].astype(np.int64))))
+    fac = m2.facets
+    key = np.minimum(fac[0], fac[1]).astype(np.int64) * n + np.maximum(fac[0], fac[1])
+    ek = nodes.edges[0].astype(np.int64) * n + nodes.edges[1]
+    j = np.searchsorted(ek, key)
+    assert np.array_equal(ek[j], key)
+    doflocs = m2.doflocs.copy()
+    doflocs[:, m2.dofs.facet_dofs[0]] = p6[:, n + j]
+    basis = Basis(dataclasses.replace(m2, doflocs=doflocs), ElementTriP2(), intorder=10)
+    return basis, np.concatenate([np.arange(n), n + j])

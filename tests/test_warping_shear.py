@@ -18,7 +18,6 @@ flow over a few thicknesses (a local effect the thin-wall formula does not have)
 
 from __future__ import annotations
 
-import dataclasses
 import json
 import math
 
@@ -137,22 +136,9 @@ def test_channel_warping_shear_tends_to_thin_wall():
 def _skfem_p2_basis(mesh, f2):
     """scikit-fem's isoparametric quadratic basis on our P2 mesh, and the map from our nodal
     values to its dofs (corners, then its facets)."""
-    from skfem import Basis, ElementTriP2, MeshTri1, MeshTri2
+    from reference import skfem_p2_basis
 
-    nd, n = f2.nodes, mesh.nnodes
-    p6 = f2.p + f2.origin[:, None]
-    m2 = MeshTri2.from_mesh(MeshTri1(np.ascontiguousarray(p6[:, :n]),
-                                     np.ascontiguousarray(nd.t6[:3].astype(np.int64))))
-    fac = m2.facets
-    key = np.minimum(fac[0], fac[1]).astype(np.int64) * n + np.maximum(fac[0], fac[1])
-    ek = nd.edges[0].astype(np.int64) * n + nd.edges[1]
-    j = np.searchsorted(ek, key)
-    assert np.array_equal(ek[j], key)
-    doflocs = m2.doflocs.copy()
-    doflocs[:, m2.dofs.facet_dofs[0]] = p6[:, n + j]
-    basis = Basis(dataclasses.replace(m2, doflocs=doflocs), ElementTriP2(), intorder=10)
-    order = np.concatenate([np.arange(n), n + j])
-    return basis, order
+    return skfem_p2_basis(f2.p + f2.origin[:, None], f2.nodes, mesh.nnodes)
 
 
 def _skfem_check(basis, psi, wn, warping, size):
