@@ -528,3 +528,18 @@ def finish_check(args, files: Outputs, passed: bool, document, show, written=())
     if args.json == "-":
         write_json("-", document())
     return 0 if passed else EXIT_CHECK_FAILED
+
+
+def verdict_json(res, gov) -> dict:
+    """The verdict keys of a shaft's or a member's JSON ``totals``: the governing segment
+    ``gov`` (with ``segment.name`` and ``index``) and the check's utilisations
+    (:class:`soapfilm.members.shaft.Verdict`)."""
+    return {
+        "governing_segment": gov.segment.name,
+        "governing_index": gov.index,
+        "utilisation_stress": res.utilisation_stress,
+        "utilisation_twist": res.utilisation_twist,
+        "utilisation": res.utilisation,
+        "governs": res.governs,
+        "passed": res.passed,
+    }

@@ -14,6 +14,7 @@ from ._io import (
     check_writable,
     finish_check,
     run_outputs,
+    verdict_json,
 )
 from .check import add_allowable_args, allowable_json, parse_allowable_args, section_json, system_of
 
@@ -146,13 +147,7 @@ def member_json(res: MemberResult) -> dict:
         "totals": {
             "length_m": m.length,
             "max_twist_angle_rad": float(abs(sol.twist).max()),
-            "governing_segment": gov.segment.name,
-            "governing_index": gov.index,
-            "utilisation_stress": res.utilisation_stress,
-            "utilisation_twist": res.utilisation_twist,
-            "utilisation": res.utilisation,
-            "governs": res.governs,
-            "passed": res.passed,
+            **verdict_json(res, gov),
         },
         "notes": list(res.notes),
         "caution": CAUTION,

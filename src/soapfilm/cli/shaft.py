@@ -14,6 +14,7 @@ from ._io import (
     check_writable,
     finish_check,
     run_outputs,
+    verdict_json,
 )
 from .check import (
     add_allowable_args,
@@ -132,13 +133,7 @@ def shaft_json(res: ShaftResult) -> dict:
             "torsional_stiffness_Nm_per_rad": res.torsional_stiffness,
             "twist_limit_rad_per_m": m.twist_limit,
             "twist_limit_basis": m.twist_limit_note,
-            "governing_segment": gov.segment.name,
-            "governing_index": gov.index,
-            "utilisation_stress": res.utilisation_stress,
-            "utilisation_twist": res.utilisation_twist,
-            "utilisation": res.utilisation,
-            "governs": res.governs,
-            "passed": res.passed,
+            **verdict_json(res, gov),
         },
         "notes": list(res.notes),
         "caution": CAUTION,
