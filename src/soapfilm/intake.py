@@ -177,8 +177,13 @@ def analyse_options(profile, settings: dict, opts: SectionOptions) -> dict:
 
 
 def solve_input(path, opts: SectionOptions | None = None,
-                progress: Callable[[dict], None] | None = None):
-    """Read and solve a section file (or a triangle mesh file, solved as given)."""
+                progress: Callable[[dict], None] | None = None, warping_shear: bool = True):
+    """Read and solve a section file (or a triangle mesh file, solved as given).
+
+    ``warping_shear``: also the warping shear per unit warping torque (one more solve,
+    :func:`soapfilm.solve.analyse`): ``solve`` prints it, ``member`` uses it; the
+    shaft checks, which do neither, ask for it through :class:`SectionSource` only for
+    members."""
     from .readers.meshfile import is_mesh_file, read_mesh_file
     from .solve import analyse, result_from_mesh
 
@@ -194,7 +199,7 @@ def solve_input(path, opts: SectionOptions | None = None,
 
         check_elements(mesh.nelements, opts.memory, where=str(path),
                        fix="solve a coarser mesh, or the section itself")
-        return result_from_mesh(profile, mesh, order=opts.order, warping_shear=True)
+        return result_from_mesh(profile, mesh, order=opts.order, warping_shear=warping_shear)
     profile, settings = read_input(path, opts)
     kw = analyse_options(profile, settings, opts)
     if progress is not None and "tol" in kw:
@@ -206,5 +211,5 @@ def solve_input(path, opts: SectionOptions | None = None,
         # a refusal of the file's own mesh size names the key to change
         hints["mesh_size"] = f"size = {{}} in [mesh] of {Path(path).name}"
     with options_named(hints):
-        return analyse(profile, warping_shear=True, **kw)
+        return analyse(profile, warping_shear=warping_shear, **kw)
 

@@ -225,7 +225,7 @@ def run(args) -> int:
     from ..members.member import analyse_member
     from ..members.memberfile import read_member
 
-    source = SectionSource(options=input_options(args))
+    source = SectionSource(options=input_options(args), warping_shear=True)
     model = read_member(args.file, options, source, e_mod)
     try:
         res = analyse_member(model)

@@ -97,6 +97,8 @@ def member_from_dict(data: dict, base: Path, where: str, options: CheckOptions |
             seg_extra.append(extra)
     support_tables = _table_list(data, "support", where)
     data.pop("support", None)
+    if sections is None:  # a member uses its sections' warping shear
+        sections = SectionSource(warping_shear=True)
     shaft = shaft_from_dict(data, base, where, options, sections, require_loads=False,
                             noun="member")
 

@@ -150,6 +150,9 @@ class SectionSource:
     #: the finite-element result behind each section built from a file or an outline
     #: (Section -> TorsionResult), for pictures of its fields (``member --plot-sectorial``)
     results: dict = field(default_factory=dict)
+    #: also solve each section's warping shear (one more solve per section): members use
+    #: it, the shaft checks do not
+    warping_shear: bool = False
 
     def _options(self, units, mesh_size, layers=None, join_tolerance=None):
         import dataclasses
@@ -201,7 +204,7 @@ class SectionSource:
                                  fix=missing_fix)
             log.info("analysing section %s", path)
             with options_named(hints or {}):
-                self.cache[key] = solve_input(path, opts)
+                self.cache[key] = solve_input(path, opts, warping_shear=self.warping_shear)
         result = self.cache[key]
         bore = None
         if nominal_diameter is None and nominal_diameter_hint(result) is None:
@@ -237,7 +240,7 @@ class SectionSource:
             profile = Profile.from_loops(
                 loops, units=units, name=name,
                 labels=[f"{where} outline"] + [f"{where} hole {k}" for k in range(1, len(loops))])
-            self.cache[key] = analyse(profile, warping_shear=True,
+            self.cache[key] = analyse(profile, warping_shear=self.warping_shear,
                                       **analyse_options(profile, {}, opts))
         result = self.cache[key]
         section = section_from_result(result, nominal_diameter, name=name,
