@@ -152,7 +152,14 @@ def _cells_table(head, rows, num_cols=(), over=(), util_col: int | None = None) 
                    "num" if i in num_cols and (_looks_numeric(c) or c in ("-", "")) else "")
             cells.append(f'<td class="{cls}">{html.escape(str(c))}</td>')
         body.append(f'<tr class="{"over" if k in over else ""}">' + "".join(cells) + "</tr>")
-    return f"<table><thead><tr>{th}</tr></thead><tbody>{''.join(body)}</tbody></table>"
+    # more columns than the page holds at body size: the smaller type of the wide tables
+    tag = '<table class="compact">' if len(head) > WIDE_TABLE else "<table>"
+    return f"{tag}<thead><tr>{th}</tr></thead><tbody>{''.join(body)}</tbody></table>"
+
+
+#: Columns beyond which a table is set in the smaller type (``table.compact``): eight
+#: columns of value-and-unit cells fill the 186 mm page at body size.
+WIDE_TABLE = 8
 
 
 def _looks_numeric(text) -> bool:
