@@ -99,7 +99,12 @@ def _flat_list(v) -> bool:
 def _png_figure(ax, alt: str, caption: str) -> str:
     from ..plots import figure_bytes
 
-    data = base64.b64encode(figure_bytes(ax, "png", dpi=_DPI)).decode("ascii")
+    return _png_html(figure_bytes(ax, "png", dpi=_DPI), alt, caption)
+
+
+def _png_html(png: bytes, alt: str, caption: str) -> str:
+    """A PNG embedded as a figure: ``alt`` plain text (escaped here), ``caption`` HTML."""
+    data = base64.b64encode(png).decode("ascii")
     return (f'<figure><img alt="{html.escape(alt)}" src="data:image/png;base64,{data}">'
             f"<figcaption>{caption}</figcaption></figure>")
 
@@ -322,13 +327,10 @@ def render_shaft_report(view, figure_png: bytes | None = None,
     """
     parts = [check_html(view)]
     if figure_png is not None:
-        data = base64.b64encode(figure_png).decode("ascii")
-        parts.append(
-            "<h2>Along the shaft</h2>\n"
-            f'<figure><img alt="side view, internal torque and twist along the shaft" '
-            f'src="data:image/png;base64,{data}"><figcaption>Side view (segments numbered, the '
-            "governing one shaded), internal torque and twist angle along the axis; loads and "
-            "held stations marked.</figcaption></figure>")
+        parts.append("<h2>Along the shaft</h2>\n" + _png_html(
+            figure_png, "side view, internal torque and twist along the shaft",
+            "Side view (segments numbered, the governing one shaded), internal torque and "
+            "twist angle along the axis; loads and held stations marked."))
     for title, head, rows, over in view.tables:
         util = head.index("utilisation") if "utilisation" in head else None
         nums = [i for i, h in enumerate(head) if i >= 2 and not h.startswith(

@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import base64
 import html
 
 from ..units import UnitSystem
@@ -89,29 +88,25 @@ def render_member_report(view: ShaftView, figure_png: bytes | None = None,
     ``sectorials`` are (segment names, PNG) pairs: omega_n over each section
     whose warping the member counts.
     """
-    from . import _cells_table, _page, _warnings_html, check_html
+    from . import _cells_table, _page, _png_html, _warnings_html, check_html
 
     parts = [check_html(view)]
     if figure_png is not None:
-        data = base64.b64encode(figure_png).decode("ascii")
-        parts.append(
-            "<h2>Along the member</h2>\n"
-            f'<figure><img alt="twist, torque split and bimoment along the member" '
-            f'src="data:image/png;base64,{data}"><figcaption>Twist, Saint-Venant and warping '
-            "torque, and bimoment along the member; stations marked ([T] twist held, [W] "
-            "warping held).</figcaption></figure>")
+        parts.append("<h2>Along the member</h2>\n" + _png_html(
+            figure_png, "twist, torque split and bimoment along the member",
+            "Twist, Saint-Venant and warping torque, and bimoment along the member; stations "
+            "marked ([T] twist held, [W] warping held)."))
     if sectorials:
         figs = []
         for names, png in sectorials:
-            data = base64.b64encode(png).decode("ascii")
-            used = ", ".join(html.escape(repr(n)) for n in names)
-            figs.append(
-                f'<figure><img alt="normalised warping omega_n over the section of {used}" '
-                f'src="data:image/png;base64,{data}"><figcaption>Normalised warping '
-                f"&omega;<sub>n</sub> over the section of segment{'s' if len(names) > 1 else ''}"
-                f" {used}: the warping normal stress is B &omega;<sub>n</sub> / &Gamma;, largest "
-                "where |&omega;<sub>n</sub>| is (square); the shear centre is the ringed "
-                "cross.</figcaption></figure>")
+            plain = ", ".join(repr(n) for n in names)
+            used = html.escape(plain)
+            figs.append(_png_html(
+                png, f"normalised warping omega_n over the section of {plain}",
+                f"Normalised warping &omega;<sub>n</sub> over the section of "
+                f"segment{'s' if len(names) > 1 else ''} {used}: the warping normal stress is "
+                "B &omega;<sub>n</sub> / &Gamma;, largest where |&omega;<sub>n</sub>| is "
+                "(square); the shear centre is the ringed cross."))
         parts.append("<h2>Warping over the sections</h2>\n" + "\n".join(figs))
     for title, head, rows, over in view.tables:
         util = head.index("utilisation") if "utilisation" in head else None
